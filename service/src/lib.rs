@@ -1,0 +1,29 @@
+//! Oxbind: one validated, versioned, auditable implementation of the published
+//! oxygen-haemoglobin dissociation methods, served over gRPC.
+//!
+//! - [`physiology`]: the science, pure and synchronous: curve models and their
+//!   inverses, shifts and P50, temperature correction, oxygen content and gas
+//!   exchange. No gRPC types.
+//! - [`api`]: one thin adapter per gRPC service: proto to validated domain
+//!   input, to physiology, and back.
+//! - [`server`], [`config`], [`telemetry`], [`shutdown`]: start-up, layers and
+//!   shutdown.
+//!
+//! Results are decision support only: measured co-oximetry and licensed
+//! clinicians decide, and local laboratory policy decides what is reported.
+
+pub mod api;
+pub mod config;
+pub mod physiology;
+pub mod server;
+pub mod shutdown;
+pub mod telemetry;
+
+pub use config::Config;
+pub use server::{serve, ServeError};
+
+/// The service's version, as reported in provenance.
+pub const SERVICE_VERSION: &str = env!("CARGO_PKG_VERSION");
+
+/// The git commit the service was built from, or "unknown" outside a checkout.
+pub const BUILD_COMMIT: &str = env!("OXBIND_BUILD_COMMIT");
