@@ -77,7 +77,9 @@ where
             config.max_batch_items,
         )))
         .add_service(OxygenTransportServiceServer::new(TransportApi::new()))
-        .add_service(ModelCatalogServiceServer::new(CatalogApi::new()));
+        .add_service(ModelCatalogServiceServer::new(CatalogApi::new(
+            config.max_batch_items,
+        )));
 
     set_all(&reporter, ServingStatus::Serving).await;
     if let Ok(address) = listener.local_addr() {

@@ -62,3 +62,63 @@ impl TestServer {
         }
     }
 }
+
+/// A quantity with a UCUM unit code.
+pub fn q(value: f64, unit: &str) -> Option<oxbind_client::v1::Quantity> {
+    Some(oxbind_client::v1::Quantity {
+        value,
+        unit: unit.to_owned(),
+    })
+}
+
+/// One field violation as a test sees it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Refusal {
+    /// Dotted field path.
+    pub field: String,
+    /// The violation's reason.
+    pub reason: String,
+}
+
+/// The `google.rpc.BadRequest` violations and `ErrorInfo` (reason, domain) in
+/// an encoded `google.rpc.Status`'s details.
+pub fn decode_details(
+    details: &[prost_types_any::Any],
+) -> (Vec<Refusal>, Option<(String, String)>) {
+    use prost::Message;
+    use tonic_types::pb;
+    let mut violations = Vec::new();
+    let mut info = None;
+    for any in details {
+        if any.type_url.ends_with("google.rpc.BadRequest") {
+            let bad = pb::BadRequest::decode(any.value.as_slice()).expect("BadRequest decodes");
+            violations.extend(bad.field_violations.into_iter().map(|v| Refusal {
+                field: v.field,
+                reason: v.reason,
+            }));
+        } else if any.type_url.ends_with("google.rpc.ErrorInfo") {
+            let e = pb::ErrorInfo::decode(any.value.as_slice()).expect("ErrorInfo decodes");
+            info = Some((e.reason, e.domain));
+        }
+    }
+    (violations, info)
+}
+
+/// The violations and ErrorInfo of a refused call, asserting the status is
+/// INVALID_ARGUMENT.
+pub fn refusal_of(status: &tonic::Status) -> (Vec<Refusal>, Option<(String, String)>) {
+    use prost::Message;
+    assert_eq!(
+        status.code(),
+        tonic::Code::InvalidArgument,
+        "expected INVALID_ARGUMENT, got {status:?}"
+    );
+    let rpc =
+        tonic_types::pb::Status::decode(status.details()).expect("grpc-status-details-bin decodes");
+    decode_details(&rpc.details)
+}
+
+/// Re-export of the `Any` type used in `google.rpc.Status` details.
+pub mod prost_types_any {
+    pub use prost_types::Any;
+}

@@ -1,6 +1,48 @@
-//! `oxbind.v1.OxygenTransportService`.
+//! `oxbind.v1.OxygenTransportService`: oxygen content, delivery and
+//! consumption, and gas-exchange indices.
 
-use oxbind_proto::v1::oxygen_transport_service_server::OxygenTransportService;
+use oxbind_proto::v1::{
+    oxygen_transport_service_server::OxygenTransportService, AlveolarEquation, BloodSample,
+    GasExchangeRequest, GasExchangeResponse, OxygenContentRequest, OxygenContentResponse,
+    SaturationKind as WireSaturationKind, Warning, WarningCode,
+};
+use tonic::{Request, Response, Status};
+
+use super::{
+    field_path::FieldPath,
+    limits,
+    model_choice::choose_model,
+    provenance::{self, Method},
+    reader::RequestReader,
+    status::{InvalidRequest, Violation, REASON_INCONSISTENT, REASON_UNKNOWN_ENUM},
+    units::{self, QuantityKind},
+    warnings::warning,
+};
+use crate::physiology::{
+    content::{self, BloodOxygenSample, OxygenTransportInput, SaturationKind},
+    error::{Input, PhysiologyError},
+    gas_exchange::{self, AlveolarGasForm, AlveolarGasInput, ShuntInput},
+    model::DissociationModel,
+};
+
+/// The published methods behind oxygen content and transport.
+pub const OXYGEN_CONTENT_METHOD: Method = Method {
+    version: "1",
+    reference: "Oxygen content = Hüfner factor x Hb x saturation + 0.0031 mL/dL/mm[Hg] x PO2 \
+(Hüfner factors: Dijkhuizen P et al. Pflügers Arch 1977;369:223-231); delivery = cardiac output x \
+arterial content; consumption by the Fick principle",
+    doi: "10.1007/BF00582188",
+};
+
+/// The published methods behind the gas-exchange indices.
+pub const GAS_EXCHANGE_METHOD: Method = Method {
+    version: "1",
+    reference: "Alveolar gas equation (full and simplified forms); shunt Qs/Qt = (CcO2 - CaO2) / \
+(CcO2 - CvO2); PaO2/FiO2 (ARDS Definition Task Force, JAMA 2012;307(23):2526-2533); oxygenation \
+and oxygen saturation indices; PaO2 imputed from SpO2 by the nonlinear method of Brown SM et al., \
+Chest 2016;150(2):307-313 (the Ellis 1989 inverse of Severinghaus 1979 Eq. 1)",
+    doi: "10.1016/j.chest.2016.01.003",
+};
 
 /// The oxygen content and gas-exchange RPCs.
 #[derive(Debug, Clone, Default)]
@@ -14,4 +56,439 @@ impl TransportApi {
 }
 
 #[tonic::async_trait]
-impl OxygenTransportService for TransportApi {}
+impl OxygenTransportService for TransportApi {
+    async fn oxygen_content(
+        &self,
+        request: Request<OxygenContentRequest>,
+    ) -> Result<Response<OxygenContentResponse>, Status> {
+        Ok(Response::new(compute_oxygen_content(request.get_ref())?))
+    }
+
+    async fn gas_exchange(
+        &self,
+        request: Request<GasExchangeRequest>,
+    ) -> Result<Response<GasExchangeResponse>, Status> {
+        Ok(Response::new(compute_gas_exchange(request.get_ref())?))
+    }
+}
+
+/// A blood sample read from the request, with its saturation resolved.
+struct ReadSample {
+    sample: BloodOxygenSample,
+    calculated: bool,
+}
+
+/// Read a `BloodSample` at `path`. `fallback_po2` supplies the tension when
+/// the sample has none (GasExchange's `pao2`). The saturation is computed
+/// through the sample's model when absent (and `calculated` is set).
+fn read_sample(
+    reader: &mut RequestReader,
+    sample: &BloodSample,
+    path: &FieldPath<'_>,
+    fallback_po2: Option<f64>,
+) -> Option<ReadSample> {
+    let po2_path = path.field("po2");
+    let po2 = match (sample.po2.as_ref(), fallback_po2) {
+        (None, Some(po2)) => Some(po2),
+        (given, _) => {
+            reader.required_quantity(given, &po2_path, QuantityKind::Pressure, &limits::PRESSURE)
+        }
+    };
+    let kind = match WireSaturationKind::try_from(sample.saturation_kind) {
+        Ok(WireSaturationKind::Fractional) => SaturationKind::Fractional,
+        Ok(_) => SaturationKind::Functional,
+        Err(_) => {
+            reader.refuse(Violation::other(
+                &path.field("saturation_kind"),
+                REASON_UNKNOWN_ENUM,
+                "not a known oxbind.v1.SaturationKind value",
+            ));
+            SaturationKind::Functional
+        }
+    };
+    let saturation = sample.saturation_fraction.and_then(|s| {
+        reader.number(
+            s,
+            &path.field("saturation_fraction"),
+            &limits::SATURATION_MEASURED,
+            QuantityKind::Fraction,
+        )
+    });
+    let cohb = reader.quantity(
+        sample.cohb.as_ref(),
+        &path.field("cohb"),
+        QuantityKind::Fraction,
+        &limits::DYSHEMOGLOBIN_FRACTION,
+    );
+    let methb = reader.quantity(
+        sample.methb.as_ref(),
+        &path.field("methb"),
+        QuantityKind::Fraction,
+        &limits::DYSHEMOGLOBIN_FRACTION,
+    );
+    let conditions_path = path.field("conditions");
+    let mut conditions = reader.conditions(sample.conditions.as_ref(), &conditions_path);
+    let model = choose_model(reader, sample.model, sample.hill.as_ref(), path);
+    // One COHb and one MetHb per sample: the sample's own field, else the
+    // conditions'; both set and different is refused.
+    for (own, from_conditions, name) in [
+        (cohb, &mut conditions.cohb_fraction, "cohb"),
+        (methb, &mut conditions.methb_fraction, "methb"),
+    ] {
+        match (own, *from_conditions) {
+            (Some(a), Some(b)) if a != b => reader.refuse(Violation::other(
+                &path.field(name),
+                REASON_INCONSISTENT,
+                format!("differs from conditions.{name}; give one value"),
+            )),
+            (Some(a), None) => *from_conditions = Some(a),
+            _ => {}
+        }
+    }
+    reader.dyshemoglobin_sum(
+        conditions.cohb_fraction,
+        conditions.methb_fraction,
+        &path.field("cohb"),
+    );
+    let po2 = po2?;
+    if reader.has_violations() {
+        return None;
+    }
+    let (saturation, calculated, kind) = match saturation {
+        Some(s) => (s, false, kind),
+        None => match model.saturation(po2, &conditions) {
+            Ok(s) => (s, true, SaturationKind::Functional),
+            Err(e) => {
+                reader.refuse(Violation::from_physiology(&po2_path.field("value"), &e));
+                return None;
+            }
+        },
+    };
+    Some(ReadSample {
+        sample: BloodOxygenSample {
+            saturation_fraction: saturation,
+            saturation_kind: kind,
+            po2_mmhg: po2,
+            cohb_fraction: conditions.cohb_fraction,
+            methb_fraction: conditions.methb_fraction,
+        },
+        calculated,
+    })
+}
+
+fn calculated_warning(path: &str) -> Warning {
+    warning(
+        WarningCode::SaturationCalculated,
+        path.to_owned(),
+        "saturation calculated from PO2 through a model, not measured; prefer a measured co-oximetry value",
+    )
+}
+
+fn engine_refusal(error: &PhysiologyError) -> InvalidRequest {
+    let field = match error.input() {
+        Input::Hemoglobin => "hemoglobin.value",
+        Input::Saturation => "arterial.saturation_fraction",
+        Input::Po2 => "arterial.po2.value",
+        Input::VenousSaturation => "venous.saturation_fraction",
+        Input::VenousPo2 => "venous.po2.value",
+        Input::CardiacOutput => "cardiac_output.value",
+        Input::HufnerFactor => "hufner_factor_ml_per_g",
+        Input::Cohb => "arterial.cohb.value",
+        Input::Methb => "arterial.methb.value",
+        Input::Fio2 => "fio2.value",
+        Input::BarometricPressure => "barometric_pressure.value",
+        Input::Paco2 => "paco2.value",
+        Input::Pao2 => "pao2.value",
+        Input::RespiratoryQuotient => "respiratory_quotient",
+        Input::Spo2 => "spo2_fraction",
+        Input::MeanAirwayPressure => "mean_airway_pressure.value",
+        Input::Temperature => "body_temperature.value",
+        other => other.name(),
+    };
+    InvalidRequest::one(Violation::from_physiology_at(field.to_owned(), error))
+}
+
+/// OxygenContent for one request.
+pub fn compute_oxygen_content(
+    request: &OxygenContentRequest,
+) -> Result<OxygenContentResponse, InvalidRequest> {
+    let root = FieldPath::ROOT;
+    let system = units::unit_system(request.unit_system);
+    let mut reader = RequestReader::new(system);
+    let hemoglobin = reader.required_quantity(
+        request.hemoglobin.as_ref(),
+        &root.field("hemoglobin"),
+        QuantityKind::Hemoglobin,
+        &limits::HEMOGLOBIN,
+    );
+    let arterial_path = root.field("arterial");
+    let arterial = match request.arterial.as_ref() {
+        Some(sample) => read_sample(&mut reader, sample, &arterial_path, None),
+        None => {
+            reader.refuse(Violation::required(&arterial_path));
+            None
+        }
+    };
+    let venous = request
+        .venous
+        .as_ref()
+        .and_then(|sample| read_sample(&mut reader, sample, &root.field("venous"), None));
+    let cardiac_output = reader.quantity(
+        request.cardiac_output.as_ref(),
+        &root.field("cardiac_output"),
+        QuantityKind::BloodFlow,
+        &limits::CARDIAC_OUTPUT,
+    );
+    let hufner = request.hufner_factor_ml_per_g.and_then(|k| {
+        reader.number(
+            k,
+            &root.field("hufner_factor_ml_per_g"),
+            &limits::HUFNER_FACTOR,
+            QuantityKind::Fraction,
+        )
+    });
+    let inputs_used = reader.finish()?;
+    let (Some(hemoglobin), Some(arterial)) = (hemoglobin, arterial) else {
+        // finish() has already refused any request lacking either.
+        return Err(InvalidRequest::one(Violation::required(&arterial_path)));
+    };
+
+    let transport = content::oxygen_transport(&OxygenTransportInput {
+        hemoglobin_g_per_dl: hemoglobin,
+        arterial: arterial.sample,
+        venous: venous.as_ref().map(|v| v.sample),
+        cardiac_output_l_per_min: cardiac_output,
+        hufner_factor_ml_per_g: hufner,
+    })
+    .map_err(|e| engine_refusal(&e))?;
+
+    let mut found = Vec::new();
+    if arterial.calculated {
+        found.push(calculated_warning("arterial.saturation_fraction"));
+    }
+    if venous.as_ref().is_some_and(|v| v.calculated) {
+        found.push(calculated_warning("venous.saturation_fraction"));
+    }
+    let content = |v: f64| units::from_engine(v, QuantityKind::OxygenContent, system);
+    let flow = |v: f64| units::from_engine(v, QuantityKind::OxygenFlow, system);
+    Ok(OxygenContentResponse {
+        arterial_content: Some(content(transport.arterial.total_ml_per_dl)),
+        venous_content: transport.venous.map(|v| content(v.total_ml_per_dl)),
+        arteriovenous_difference: transport.arteriovenous_difference_ml_per_dl.map(content),
+        extraction_fraction: transport.extraction_fraction,
+        oxygen_capacity: Some(content(transport.oxygen_capacity_ml_per_dl)),
+        delivery: transport.delivery_ml_per_min.map(flow),
+        consumption: transport.consumption_ml_per_min.map(flow),
+        provenance: Some(provenance::for_method(
+            &OXYGEN_CONTENT_METHOD,
+            inputs_used,
+            true,
+        )),
+        warnings: found,
+    })
+}
+
+/// GasExchange for one request.
+pub fn compute_gas_exchange(
+    request: &GasExchangeRequest,
+) -> Result<GasExchangeResponse, InvalidRequest> {
+    let root = FieldPath::ROOT;
+    let system = units::unit_system(request.unit_system);
+    let mut reader = RequestReader::new(system);
+    let fio2 = reader.required_quantity(
+        request.fio2.as_ref(),
+        &root.field("fio2"),
+        QuantityKind::Fraction,
+        &limits::FIO2,
+    );
+    let barometric = reader.quantity_or(
+        request.barometric_pressure.as_ref(),
+        &root.field("barometric_pressure"),
+        QuantityKind::Pressure,
+        &limits::BAROMETRIC_PRESSURE,
+        gas_exchange::SEA_LEVEL_BAROMETRIC_PRESSURE_MMHG,
+    );
+    let paco2 = reader.quantity(
+        request.paco2.as_ref(),
+        &root.field("paco2"),
+        QuantityKind::Pressure,
+        &limits::PRESSURE,
+    );
+    let pao2 = reader.quantity(
+        request.pao2.as_ref(),
+        &root.field("pao2"),
+        QuantityKind::Pressure,
+        &limits::PRESSURE,
+    );
+    let quotient = reader.number_or(
+        request.respiratory_quotient,
+        &root.field("respiratory_quotient"),
+        &limits::RESPIRATORY_QUOTIENT,
+        QuantityKind::Fraction,
+        gas_exchange::RESPIRATORY_QUOTIENT_DEFAULT,
+    );
+    let spo2 = request.spo2_fraction.and_then(|s| {
+        reader.number(
+            s,
+            &root.field("spo2_fraction"),
+            &limits::SATURATION_MEASURED,
+            QuantityKind::Fraction,
+        )
+    });
+    let mean_airway = reader.quantity(
+        request.mean_airway_pressure.as_ref(),
+        &root.field("mean_airway_pressure"),
+        QuantityKind::AirwayPressure,
+        &limits::MEAN_AIRWAY_PRESSURE,
+    );
+    let hemoglobin = reader.quantity(
+        request.hemoglobin.as_ref(),
+        &root.field("hemoglobin"),
+        QuantityKind::Hemoglobin,
+        &limits::HEMOGLOBIN,
+    );
+    let body_temperature = reader.quantity_or(
+        request.body_temperature.as_ref(),
+        &root.field("body_temperature"),
+        QuantityKind::Temperature,
+        &limits::TEMPERATURE,
+        crate::physiology::conditions::STANDARD_TEMPERATURE_CELSIUS,
+    );
+    let form = match AlveolarEquation::try_from(request.alveolar_equation) {
+        Ok(AlveolarEquation::Simplified) => AlveolarGasForm::Simplified,
+        Ok(_) => AlveolarGasForm::Full,
+        Err(_) => {
+            reader.refuse(Violation::other(
+                &root.field("alveolar_equation"),
+                REASON_UNKNOWN_ENUM,
+                "not a known oxbind.v1.AlveolarEquation value",
+            ));
+            AlveolarGasForm::Full
+        }
+    };
+    // The shunt needs haemoglobin, PaO2 and a venous sample; the arterial
+    // sample defaults to one built from pao2.
+    let wants_shunt = hemoglobin.is_some() && request.venous.is_some();
+    let arterial_path = root.field("arterial");
+    let arterial = if wants_shunt {
+        let given = request.arterial.clone().unwrap_or_default();
+        if let (Some(own), Some(pao2)) = (given.po2.as_ref(), pao2) {
+            if let Ok(own) = units::to_engine(own.value, &own.unit, QuantityKind::Pressure) {
+                if (own - pao2).abs() > 1e-9 * pao2 {
+                    reader.refuse(Violation::other(
+                        &arterial_path.field("po2"),
+                        REASON_INCONSISTENT,
+                        "differs from pao2; give one value",
+                    ));
+                }
+            }
+        }
+        read_sample(&mut reader, &given, &arterial_path, pao2)
+    } else {
+        None
+    };
+    let venous = if wants_shunt {
+        request
+            .venous
+            .as_ref()
+            .and_then(|v| read_sample(&mut reader, v, &root.field("venous"), None))
+    } else {
+        None
+    };
+    let inputs_used = reader.finish()?;
+    let fio2 = fio2.unwrap_or(gas_exchange::FIO2_MIN_FRACTION);
+    let refuse = |e: PhysiologyError| engine_refusal(&e);
+    let system_pressure = |v: f64| units::from_engine(v, QuantityKind::Pressure, system);
+    // A ratio PaO2/FiO2 in the response's pressure unit.
+    let ratio_in_system = |mmhg_per_fraction: f64| {
+        units::from_engine(mmhg_per_fraction, QuantityKind::Pressure, system).value
+    };
+
+    let mut found = Vec::new();
+    let mut response = GasExchangeResponse::default();
+    let alveolar = match paco2 {
+        Some(paco2) => Some(
+            gas_exchange::alveolar_po2_mmhg(
+                &AlveolarGasInput {
+                    fio2_fraction: fio2,
+                    barometric_pressure_mmhg: barometric,
+                    paco2_mmhg: paco2,
+                    respiratory_quotient: quotient,
+                    body_temperature_celsius: body_temperature,
+                },
+                form,
+            )
+            .map_err(refuse)?
+            .alveolar_po2_mmhg,
+        ),
+        None => None,
+    };
+    response.alveolar_po2 = alveolar.map(system_pressure);
+    if let (Some(alveolar), Some(pao2)) = (alveolar, pao2) {
+        let gradient =
+            gas_exchange::alveolar_arterial_gradient_mmhg(alveolar, pao2).map_err(refuse)?;
+        response.alveolar_arterial_gradient = Some(system_pressure(gradient));
+    }
+    if let Some(pao2) = pao2 {
+        let ratio = gas_exchange::pao2_fio2_ratio_mmhg(pao2, fio2).map_err(refuse)?;
+        response.pao2_fio2_ratio = Some(ratio_in_system(ratio));
+        if let Some(map) = mean_airway {
+            response.oxygenation_index =
+                Some(gas_exchange::oxygenation_index(fio2, map, pao2).map_err(refuse)?);
+        }
+    }
+    if let Some(spo2) = spo2 {
+        response.spo2_fio2_ratio = Some(gas_exchange::spo2_fio2_ratio(spo2, fio2).map_err(refuse)?);
+        if let Some(map) = mean_airway {
+            response.oxygen_saturation_index =
+                Some(gas_exchange::oxygen_saturation_index(fio2, map, spo2).map_err(refuse)?);
+        }
+        if spo2 > 0.0 && spo2 < 1.0 {
+            let imputed = gas_exchange::impute_pao2_from_spo2(spo2).map_err(refuse)?;
+            response.imputed_pao2 = Some(system_pressure(imputed.pao2_mmhg));
+            response.imputed_pao2_fio2_ratio = Some(ratio_in_system(imputed.pao2_mmhg / fio2));
+            if !imputed.is_valid() {
+                found.push(warning(
+                    WarningCode::ImputationNotValid,
+                    "spo2_fraction".to_owned(),
+                    format!(
+                        "imputing PaO2 from SpO2 was validated only up to SpO2 {} (Brown et al. 2016); do not use imputed_pao2",
+                        gas_exchange::IMPUTATION_MAX_SPO2_FRACTION
+                    ),
+                ));
+            }
+        } else {
+            found.push(warning(
+                WarningCode::ImputationNotValid,
+                "spo2_fraction".to_owned(),
+                "SpO2 of 0 or 1 has no finite PaO2 on the curve; no PaO2 was imputed",
+            ));
+        }
+    }
+    if let (Some(hemoglobin), Some(alveolar), Some(arterial), Some(venous)) =
+        (hemoglobin, alveolar, &arterial, &venous)
+    {
+        let shunt = gas_exchange::shunt_fraction(&ShuntInput {
+            hemoglobin_g_per_dl: hemoglobin,
+            alveolar_po2_mmhg: alveolar,
+            arterial: arterial.sample,
+            venous: venous.sample,
+            hufner_factor_ml_per_g: None,
+        })
+        .map_err(refuse)?;
+        response.shunt_fraction = Some(shunt.shunt_fraction);
+        if arterial.calculated {
+            found.push(calculated_warning("arterial.saturation_fraction"));
+        }
+        if venous.calculated {
+            found.push(calculated_warning("venous.saturation_fraction"));
+        }
+    }
+    response.provenance = Some(provenance::for_method(
+        &GAS_EXCHANGE_METHOD,
+        inputs_used,
+        true,
+    ));
+    response.warnings = found;
+    Ok(response)
+}

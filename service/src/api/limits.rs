@@ -1,0 +1,406 @@
+//! The hard input limits: one table, read by validation and by the catalog.
+//!
+//! A value outside its hard limit is impossible or unusable, and the request
+//! is refused with INVALID_ARGUMENT. Values inside the hard limits but outside
+//! a model's validated range are soft limits: they compute and draw a warning
+//! (see the model descriptions in the physiology engine).
+
+use crate::physiology::{content, gas_exchange, hill, model::PO2_MAX_MMHG, temperature};
+
+/// A hard limit on one kind of input, in the engine's unit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct HardLimit {
+    /// The kind of input, e.g. `ph`, `pressure`.
+    pub input: &'static str,
+    /// Request field paths it applies to (`[]` marks a repeated field).
+    pub fields: &'static [&'static str],
+    /// UCUM code of the unit `min` and `max` are in.
+    pub unit: &'static str,
+    /// Suffix of the ErrorInfo metadata keys (`min_<suffix>`, `max_<suffix>`),
+    /// so the unit is in the key as AIP-193 asks.
+    pub unit_key: &'static str,
+    /// Lowest accepted value.
+    pub min: f64,
+    /// Whether `min` is accepted.
+    pub min_inclusive: bool,
+    /// Highest accepted value.
+    pub max: f64,
+    /// Whether `max` is accepted.
+    pub max_inclusive: bool,
+    /// The ErrorInfo reason for a value outside the limit.
+    pub error_reason: &'static str,
+    /// Why the limit is where it is.
+    pub reason: &'static str,
+}
+
+impl HardLimit {
+    /// Whether `value` (finite, in `unit`) is accepted.
+    pub fn accepts(&self, value: f64) -> bool {
+        let above_min = if self.min_inclusive {
+            value >= self.min
+        } else {
+            value > self.min
+        };
+        let below_max = if self.max_inclusive {
+            value <= self.max
+        } else {
+            value < self.max
+        };
+        above_min && below_max
+    }
+
+    /// The accepted interval in interval notation, e.g. `(0, 7600] mm[Hg]`.
+    pub fn describe(&self) -> String {
+        format!(
+            "{}{}, {}{} {}",
+            if self.min_inclusive { "[" } else { "(" },
+            self.min,
+            self.max,
+            if self.max_inclusive { "]" } else { ")" },
+            self.unit
+        )
+    }
+}
+
+/// Plasma pH.
+pub const PH: HardLimit = HardLimit {
+    input: "ph",
+    fields: &[
+        "conditions.ph",
+        "condition_sets[].ph",
+        "pairs[].conditions.ph",
+        "ph",
+    ],
+    unit: "[pH]",
+    unit_key: "ph",
+    min: 6.0,
+    min_inclusive: true,
+    max: 8.5,
+    max_inclusive: true,
+    error_reason: "PH_OUT_OF_RANGE",
+    reason: "a blood pH outside 6.0-8.5 is not survivable; such a value is a transcription or unit error",
+};
+
+/// Oxygen and carbon dioxide partial pressures, and P50.
+pub const PRESSURE: HardLimit = HardLimit {
+    input: "pressure",
+    fields: &[
+        "po2",
+        "pco2",
+        "conditions.pco2",
+        "pao2",
+        "paco2",
+        "po2_min",
+        "po2_max",
+        "pairs[].po2",
+        "arterial.po2",
+        "venous.po2",
+        "hill.p50",
+    ],
+    unit: "mm[Hg]",
+    unit_key: "mmhg",
+    min: 0.0,
+    min_inclusive: false,
+    max: PO2_MAX_MMHG,
+    max_inclusive: true,
+    error_reason: "PRESSURE_OUT_OF_RANGE",
+    reason: "a partial pressure must be positive; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment",
+};
+
+/// Barometric pressure.
+pub const BAROMETRIC_PRESSURE: HardLimit = HardLimit {
+    input: "barometric_pressure",
+    fields: &["barometric_pressure"],
+    unit: "mm[Hg]",
+    unit_key: "mmhg",
+    min: 150.0,
+    min_inclusive: true,
+    max: PO2_MAX_MMHG,
+    max_inclusive: true,
+    error_reason: "BAROMETRIC_PRESSURE_OUT_OF_RANGE",
+    reason: "below 150 mm[Hg] lies above the highest summit on Earth; above 10 atm is beyond any hyperbaric chamber",
+};
+
+/// Blood, body and measurement temperatures.
+pub const TEMPERATURE: HardLimit = HardLimit {
+    input: "temperature",
+    fields: &[
+        "conditions.temperature",
+        "condition_sets[].temperature",
+        "measured_temperature",
+        "target_temperature",
+        "body_temperature",
+    ],
+    unit: "Cel",
+    unit_key: "celsius",
+    min: temperature::TEMPERATURE_MIN_CELSIUS,
+    min_inclusive: true,
+    max: temperature::TEMPERATURE_MAX_CELSIUS,
+    max_inclusive: true,
+    error_reason: "TEMPERATURE_OUT_OF_RANGE",
+    reason: "10-46 Cel spans deep therapeutic hypothermia to the highest survivable fever; beyond it the value is a unit error",
+};
+
+/// A saturation given to an inverse (PO2 from saturation) or used on the
+/// logit scale.
+pub const SATURATION_OPEN: HardLimit = HardLimit {
+    input: "saturation_open",
+    fields: &["saturation_fraction", "pairs[].saturation_fraction"],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: false,
+    max: 1.0,
+    max_inclusive: false,
+    error_reason: "SATURATION_OUT_OF_RANGE",
+    reason: "PO2 is zero at saturation 0 and infinite at 1, so the inverse is defined only strictly between them",
+};
+
+/// A measured saturation (co-oximetry or pulse oximetry).
+pub const SATURATION_MEASURED: HardLimit = HardLimit {
+    input: "saturation_measured",
+    fields: &[
+        "arterial.saturation_fraction",
+        "venous.saturation_fraction",
+        "spo2_fraction",
+    ],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1.0,
+    max_inclusive: true,
+    error_reason: "SATURATION_OUT_OF_RANGE",
+    reason: "a saturation is a fraction between 0 and 1 (send percentages with unit-less fields divided by 100)",
+};
+
+/// Carboxyhaemoglobin and methaemoglobin fractions, each; their sum must also
+/// stay below 1.
+pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
+    input: "dyshemoglobin_fraction",
+    fields: &[
+        "conditions.cohb",
+        "conditions.methb",
+        "arterial.cohb",
+        "arterial.methb",
+        "venous.cohb",
+        "venous.methb",
+    ],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1.0,
+    max_inclusive: false,
+    error_reason: "FRACTION_OUT_OF_RANGE",
+    reason: "a fraction of total haemoglobin; COHb and MetHb together must leave some haemoglobin able to carry oxygen",
+};
+
+/// Fetal haemoglobin fraction.
+pub const HBF_FRACTION: HardLimit = HardLimit {
+    input: "hbf_fraction",
+    fields: &["conditions.hbf"],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1.0,
+    max_inclusive: true,
+    error_reason: "FRACTION_OUT_OF_RANGE",
+    reason: "a fraction of total haemoglobin",
+};
+
+/// Red-cell 2,3-DPG.
+pub const DPG: HardLimit = HardLimit {
+    input: "dpg",
+    fields: &["conditions.dpg"],
+    unit: "mmol/L",
+    unit_key: "mmol_per_l",
+    min: 0.0,
+    min_inclusive: true,
+    max: 20.0,
+    max_inclusive: true,
+    error_reason: "DPG_OUT_OF_RANGE",
+    reason: "a concentration cannot be negative; red-cell 2,3-DPG above 20 mmol/L (four times normal) is a unit error",
+};
+
+/// Whole-blood base excess.
+pub const BASE_EXCESS: HardLimit = HardLimit {
+    input: "base_excess",
+    fields: &["conditions.base_excess"],
+    unit: "mmol/L",
+    unit_key: "mmol_per_l",
+    min: -50.0,
+    min_inclusive: true,
+    max: 50.0,
+    max_inclusive: true,
+    error_reason: "BASE_EXCESS_OUT_OF_RANGE",
+    reason:
+        "a base excess beyond 50 mmol/L either way is not survivable; such a value is a unit error",
+};
+
+/// Total haemoglobin.
+pub const HEMOGLOBIN: HardLimit = HardLimit {
+    input: "hemoglobin",
+    fields: &["hemoglobin"],
+    unit: "g/dL",
+    unit_key: "g_per_dl",
+    min: 0.0,
+    min_inclusive: false,
+    max: 30.0,
+    max_inclusive: true,
+    error_reason: "HEMOGLOBIN_OUT_OF_RANGE",
+    reason: "blood without haemoglobin carries no bound oxygen; above 30 g/dL is beyond any reported polycythaemia",
+};
+
+/// Inspired oxygen fraction.
+pub const FIO2: HardLimit = HardLimit {
+    input: "fio2",
+    fields: &["fio2"],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.05,
+    min_inclusive: true,
+    max: 1.0,
+    max_inclusive: true,
+    error_reason: "FIO2_OUT_OF_RANGE",
+    reason: "room air is 0.21 and pure oxygen 1.0; below 0.05 no one is ventilated (a percentage sent as a fraction?)",
+};
+
+/// Hill coefficient.
+pub const HILL_N: HardLimit = HardLimit {
+    input: "hill_n",
+    fields: &["hill.n"],
+    unit: "1",
+    unit_key: "dimensionless",
+    min: 0.0,
+    min_inclusive: false,
+    max: hill::HILL_N_MAX,
+    max_inclusive: true,
+    error_reason: "HILL_N_OUT_OF_RANGE",
+    reason:
+        "the Hill coefficient cannot exceed the four oxygen binding sites of a haemoglobin tetramer",
+};
+
+/// Hüfner factor.
+pub const HUFNER_FACTOR: HardLimit = HardLimit {
+    input: "hufner_factor",
+    fields: &["hufner_factor_ml_per_g"],
+    unit: "mL/g",
+    unit_key: "ml_per_g",
+    min: content::HUFNER_MIN_ML_PER_G,
+    min_inclusive: true,
+    max: content::HUFNER_MAX_ML_PER_G,
+    max_inclusive: true,
+    error_reason: "HUFNER_FACTOR_OUT_OF_RANGE",
+    reason:
+        "published Hüfner factors lie between 1.30 and 1.39 mL/g; the theoretical maximum is 1.39",
+};
+
+/// Cardiac output.
+pub const CARDIAC_OUTPUT: HardLimit = HardLimit {
+    input: "cardiac_output",
+    fields: &["cardiac_output"],
+    unit: "L/min",
+    unit_key: "l_per_min",
+    min: 0.0,
+    min_inclusive: false,
+    max: 40.0,
+    max_inclusive: true,
+    error_reason: "CARDIAC_OUTPUT_OUT_OF_RANGE",
+    reason: "a flow must be positive; above 40 L/min exceeds elite athletes' maximal output",
+};
+
+/// Respiratory quotient.
+pub const RESPIRATORY_QUOTIENT: HardLimit = HardLimit {
+    input: "respiratory_quotient",
+    fields: &["respiratory_quotient"],
+    unit: "1",
+    unit_key: "dimensionless",
+    min: gas_exchange::RESPIRATORY_QUOTIENT_MIN,
+    min_inclusive: true,
+    max: gas_exchange::RESPIRATORY_QUOTIENT_MAX,
+    max_inclusive: true,
+    error_reason: "RESPIRATORY_QUOTIENT_OUT_OF_RANGE",
+    reason: "whole-body exchange ratios lie near 0.7-1.0; outside 0.5-2.0 the value is an error",
+};
+
+/// Mean airway pressure.
+pub const MEAN_AIRWAY_PRESSURE: HardLimit = HardLimit {
+    input: "mean_airway_pressure",
+    fields: &["mean_airway_pressure"],
+    unit: "cm[H2O]",
+    unit_key: "cmh2o",
+    min: 0.0,
+    min_inclusive: false,
+    max: gas_exchange::MEAN_AIRWAY_PRESSURE_MAX_CMH2O,
+    max_inclusive: true,
+    error_reason: "MEAN_AIRWAY_PRESSURE_OUT_OF_RANGE",
+    reason: "a mean airway pressure must be positive; above 200 cm[H2O] no lung is ventilated",
+};
+
+/// Points per sampled curve.
+pub const CURVE_POINTS: HardLimit = HardLimit {
+    input: "curve_points",
+    fields: &["point_count"],
+    unit: "1",
+    unit_key: "points",
+    min: 2.0,
+    min_inclusive: true,
+    max: 10_000.0,
+    max_inclusive: true,
+    error_reason: "POINT_COUNT_OUT_OF_RANGE",
+    reason: "a curve needs two points; 10,000 keeps one response well under the message size limit",
+};
+
+/// Condition sets per SampleCurve call.
+pub const CURVE_CONDITION_SETS: HardLimit = HardLimit {
+    input: "curve_condition_sets",
+    fields: &["condition_sets"],
+    unit: "1",
+    unit_key: "sets",
+    min: 0.0,
+    min_inclusive: true,
+    max: 10.0,
+    max_inclusive: true,
+    error_reason: "TOO_MANY_CONDITION_SETS",
+    reason: "ten curves are as many as one comparison plot can show; more would multiply the response size",
+};
+
+/// Measured pairs per EstimateP50 call.
+pub const MEASURED_PAIRS: HardLimit = HardLimit {
+    input: "measured_pairs",
+    fields: &["pairs"],
+    unit: "1",
+    unit_key: "pairs",
+    min: 1.0,
+    min_inclusive: true,
+    max: 10_000.0,
+    max_inclusive: true,
+    error_reason: "PAIR_COUNT_OUT_OF_RANGE",
+    reason: "a P50 needs at least one measured pair; 10,000 bounds the fit's work",
+};
+
+/// Every hard limit, in the order the catalog lists them.
+pub const ALL: [&HardLimit; 20] = [
+    &PH,
+    &PRESSURE,
+    &BAROMETRIC_PRESSURE,
+    &TEMPERATURE,
+    &SATURATION_OPEN,
+    &SATURATION_MEASURED,
+    &DYSHEMOGLOBIN_FRACTION,
+    &HBF_FRACTION,
+    &DPG,
+    &BASE_EXCESS,
+    &HEMOGLOBIN,
+    &FIO2,
+    &HILL_N,
+    &HUFNER_FACTOR,
+    &CARDIAC_OUTPUT,
+    &RESPIRATORY_QUOTIENT,
+    &MEAN_AIRWAY_PRESSURE,
+    &CURVE_POINTS,
+    &CURVE_CONDITION_SETS,
+    &MEASURED_PAIRS,
+];

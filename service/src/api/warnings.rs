@@ -1,0 +1,117 @@
+//! Soft-limit warnings: computed results the caller should know how far to
+//! trust.
+
+use oxbind_proto::v1::{Warning, WarningCode};
+
+use super::field_path::FieldPath;
+use crate::physiology::{
+    conditions::{Condition, Conditions},
+    error::Input,
+    model::{DissociationModel, Model},
+};
+
+/// Saturations above this, given to an inverse, lie on the plateau where PO2
+/// is poorly determined: an error of 0.0055 in S (the stated accuracy of
+/// Severinghaus 1979 Eq. 1) moves PO2 by about 6.6 mmHg at S 0.97 and 40 mmHg at
+/// 0.99 (derived from the Ellis inverse, reference/methods.md section 2).
+pub const PLATEAU_SATURATION: f64 = 0.97;
+
+/// A warning with `code` on `field`.
+pub fn warning(code: WarningCode, field: String, message: impl Into<String>) -> Warning {
+    Warning {
+        code: code as i32,
+        field,
+        message: message.into(),
+    }
+}
+
+/// The name of a condition's field in `BloodConditions`.
+pub fn condition_field(condition: Condition) -> &'static str {
+    match condition {
+        Condition::Ph => "ph",
+        Condition::Pco2 => "pco2",
+        Condition::Temperature => "temperature",
+        Condition::Dpg => "dpg",
+        Condition::BaseExcess => "base_excess",
+        Condition::Cohb => "cohb",
+        Condition::Methb => "methb",
+        Condition::Hbf => "hbf",
+    }
+}
+
+/// Warn for every condition given that `model` does not honour.
+pub fn unmodelled_conditions(
+    model: &Model,
+    conditions: &Conditions,
+    path: &FieldPath<'_>,
+    out: &mut Vec<Warning>,
+) {
+    for condition in model.unmodelled_conditions(conditions) {
+        out.push(warning(
+            WarningCode::ConditionNotModelled,
+            path.field(condition_field(condition)).render(),
+            format!(
+                "model {} does not take this condition into account; it did not affect the result",
+                model.info().id
+            ),
+        ));
+    }
+}
+
+/// The value of a condition as the model used it (given or standard).
+fn condition_value(conditions: &Conditions, condition: Condition) -> f64 {
+    match condition {
+        Condition::Ph => conditions.ph(),
+        Condition::Pco2 => conditions.pco2_mmhg(),
+        Condition::Temperature => conditions.temperature_celsius(),
+        Condition::Dpg => conditions.dpg_mmol_per_l(),
+        Condition::BaseExcess => conditions.base_excess_mmol_per_l(),
+        Condition::Cohb => conditions.cohb_fraction(),
+        Condition::Methb => conditions.methb_fraction(),
+        Condition::Hbf => conditions.hbf_fraction(),
+    }
+}
+
+/// Warn for every input outside the model's validated range. `point` is the
+/// request's own curve input (PO2 or saturation) with its field path, when it
+/// has one. Returns whether every input lay inside.
+pub fn validated_ranges(
+    model: &Model,
+    conditions: &Conditions,
+    conditions_path: &FieldPath<'_>,
+    point: Option<(Input, f64, &FieldPath<'_>)>,
+    out: &mut Vec<Warning>,
+) -> bool {
+    let info = model.info();
+    let mut inside = true;
+    for range in info.validated_ranges {
+        let (value, field) =
+            if let Some((input, value, path)) = point.filter(|p| p.0 == range.input) {
+                let _ = input;
+                (value, path.render())
+            } else if let Some(condition) = Condition::ALL
+                .iter()
+                .copied()
+                .find(|c| c.input() == range.input)
+            {
+                (
+                    condition_value(conditions, condition),
+                    conditions_path.field(condition_field(condition)).render(),
+                )
+            } else {
+                continue;
+            };
+        if value < range.min || value > range.max {
+            inside = false;
+            out.push(warning(
+                WarningCode::OutsideValidatedRange,
+                field,
+                format!(
+                    "outside the range model {} was validated for ({} to {})",
+                    info.id, range.min, range.max
+                ),
+            ));
+        }
+    }
+    inside
+}
