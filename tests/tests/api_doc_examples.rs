@@ -1,0 +1,1004 @@
+//! The worked examples of `proto/API.md`, sent exactly as documented: every
+//! number the document prints in a response is asserted here to its printed
+//! precision, so the document stays true to the service.
+//!
+//! The scenario (Larkspur Valley General Hospital and its patients) is
+//! fictional. The expected values are outputs of the service itself, recorded
+//! when the document was written (derived from the engine's equations; the
+//! equations' own checks against published values live in the other
+//! `api_*.rs` tests and the engine's unit tests).
+
+use oxbind_client::v1::{
+    dissociation_service_client::DissociationServiceClient,
+    model_catalog_service_client::ModelCatalogServiceClient,
+    oxygen_transport_service_client::OxygenTransportServiceClient,
+    BatchSaturationFromTensionRequest, BatchTensionFromSaturationRequest, BloodConditions,
+    BloodSample, CorrectForTemperatureRequest, EstimateP50Request, GasExchangeRequest,
+    ListModelsRequest, MeasuredPair, Model, OxygenContentRequest, SampleCurveRequest,
+    SaturationFromTensionRequest, ShiftFactorsRequest, TensionFromSaturationRequest, UnitSystem,
+};
+use oxbind_client::v1::{
+    saturation_from_tension_result, tension_from_saturation_result, HillPreset, Provenance,
+    Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
+};
+use oxbind_tests::{q, TestServer};
+use prost::Message;
+use tonic::transport::Channel;
+use tonic_types::pb;
+
+fn saturation_from_tension_example() -> SaturationFromTensionRequest {
+    SaturationFromTensionRequest {
+        po2: q(62.0, "mm[Hg]"),
+        conditions: Some(BloodConditions {
+            ph: Some(7.31),
+            pco2: q(48.0, "mm[Hg]"),
+            temperature: q(38.5, "Cel"),
+            ..Default::default()
+        }),
+        ..Default::default()
+    }
+}
+
+fn tension_from_saturation_example() -> TensionFromSaturationRequest {
+    TensionFromSaturationRequest {
+        saturation_fraction: 0.88,
+        conditions: Some(BloodConditions {
+            ph: Some(7.45),
+            ..Default::default()
+        }),
+        unit_system: UnitSystem::Si as i32,
+        ..Default::default()
+    }
+}
+
+fn plateau_example() -> TensionFromSaturationRequest {
+    TensionFromSaturationRequest {
+        saturation_fraction: 0.985,
+        ..Default::default()
+    }
+}
+
+fn sample_curve_example() -> SampleCurveRequest {
+    SampleCurveRequest {
+        condition_sets: vec![
+            BloodConditions::default(),
+            BloodConditions {
+                ph: Some(7.20),
+                temperature: q(39.0, "Cel"),
+                ..Default::default()
+            },
+        ],
+        po2_min: q(20.0, "mm[Hg]"),
+        po2_max: q(80.0, "mm[Hg]"),
+        point_count: 4,
+        ..Default::default()
+    }
+}
+
+fn shift_factors_example() -> ShiftFactorsRequest {
+    ShiftFactorsRequest {
+        conditions: Some(BloodConditions {
+            ph: Some(7.25),
+            pco2: q(55.0, "mm[Hg]"),
+            temperature: q(39.2, "Cel"),
+            ..Default::default()
+        }),
+        model: Model::Kelman1966 as i32,
+        ..Default::default()
+    }
+}
+
+fn estimate_p50_example() -> EstimateP50Request {
+    EstimateP50Request {
+        pairs: vec![MeasuredPair {
+            po2: q(31.0, "mm[Hg]"),
+            saturation_fraction: 0.58,
+            conditions: Some(BloodConditions {
+                ph: Some(7.36),
+                pco2: q(46.0, "mm[Hg]"),
+                ..Default::default()
+            }),
+        }],
+        ..Default::default()
+    }
+}
+
+fn correct_for_temperature_example() -> CorrectForTemperatureRequest {
+    CorrectForTemperatureRequest {
+        ph: Some(7.32),
+        pco2: q(44.0, "mm[Hg]"),
+        po2: q(95.0, "mm[Hg]"),
+        target_temperature: q(33.0, "Cel"),
+        ..Default::default()
+    }
+}
+
+fn batch_saturation_example() -> BatchSaturationFromTensionRequest {
+    let item = |value: f64, unit: &str| SaturationFromTensionRequest {
+        po2: q(value, unit),
+        ..Default::default()
+    };
+    BatchSaturationFromTensionRequest {
+        requests: vec![item(88.0, "mm[Hg]"), item(54.0, "mmHg"), item(5.6, "kPa")],
+    }
+}
+
+fn batch_tension_example() -> BatchTensionFromSaturationRequest {
+    let item = |s: f64| TensionFromSaturationRequest {
+        saturation_fraction: s,
+        ..Default::default()
+    };
+    BatchTensionFromSaturationRequest {
+        requests: vec![item(0.91), item(100.0), item(0.75)],
+    }
+}
+
+fn oxygen_content_example() -> OxygenContentRequest {
+    OxygenContentRequest {
+        hemoglobin: q(11.2, "g/dL"),
+        arterial: Some(BloodSample {
+            saturation_fraction: Some(0.95),
+            po2: q(78.0, "mm[Hg]"),
+            ..Default::default()
+        }),
+        venous: Some(BloodSample {
+            saturation_fraction: Some(0.68),
+            po2: q(36.0, "mm[Hg]"),
+            ..Default::default()
+        }),
+        cardiac_output: q(4.6, "L/min"),
+        ..Default::default()
+    }
+}
+
+fn gas_exchange_example() -> GasExchangeRequest {
+    GasExchangeRequest {
+        fio2: q(40.0, "%"),
+        paco2: q(38.0, "mm[Hg]"),
+        pao2: q(72.0, "mm[Hg]"),
+        spo2_fraction: Some(0.93),
+        mean_airway_pressure: q(14.0, "cm[H2O]"),
+        ..Default::default()
+    }
+}
+
+fn refused_example() -> SaturationFromTensionRequest {
+    SaturationFromTensionRequest {
+        po2: q(-5.0, "mm[Hg]"),
+        conditions: Some(BloodConditions {
+            ph: Some(8.9),
+            temperature: q(37.0, "C"),
+            ..Default::default()
+        }),
+        ..Default::default()
+    }
+}
+
+/// Assert that `actual` rounds to `printed`, the number as API.md prints it:
+/// within half a unit of its last printed decimal place, or exactly when it is
+/// printed without a decimal point (inputs echoed, zeros, defaults).
+fn printed(actual: f64, printed: &str) {
+    let expected: f64 = printed.parse().expect("a printed number");
+    let Some((_, digits)) = printed.split_once('.') else {
+        assert_eq!(actual, expected, "the document prints {printed}");
+        return;
+    };
+    let decimals = digits.len();
+    let half_unit = 0.5 * 10f64.powi(-(decimals as i32));
+    assert!(
+        (actual - expected).abs() <= half_unit * (1.0 + 1e-9),
+        "got {actual}, the document prints {printed}"
+    );
+}
+
+/// Assert a quantity's unit code and its printed value.
+fn quantity(actual: &Option<Quantity>, value: &str, unit: &str) {
+    let actual = actual.as_ref().expect("quantity set");
+    assert_eq!(actual.unit, unit);
+    printed(actual.value, value);
+}
+
+/// Assert the inputs used, in order: (name, printed value, unit, defaulted).
+fn inputs_used(provenance: &Option<Provenance>, expected: &[(&str, &str, &str, bool)]) {
+    let used = &provenance.as_ref().expect("provenance").inputs_used;
+    let names: Vec<&str> = used.iter().map(|i| i.name.as_str()).collect();
+    let expected_names: Vec<&str> = expected.iter().map(|e| e.0).collect();
+    assert_eq!(names, expected_names);
+    for (input, (name, value, unit, defaulted)) in used.iter().zip(expected) {
+        quantity(&input.value, value, unit);
+        assert_eq!(input.defaulted, *defaulted, "{name} defaulted");
+    }
+}
+
+/// The standard-condition defaults below `prefix` that every curve request
+/// records, after the explicitly given ones.
+fn standard_defaults(prefix: &str) -> Vec<(String, &'static str, &'static str)> {
+    [
+        ("ph", "7.4", "[pH]"),
+        ("pco2", "40", "mm[Hg]"),
+        ("temperature", "37", "Cel"),
+        ("dpg", "5", "mmol/L"),
+        ("base_excess", "0", "mmol/L"),
+        ("cohb", "0", "1"),
+        ("methb", "0", "1"),
+        ("hbf", "0", "1"),
+    ]
+    .into_iter()
+    .map(|(name, value, unit)| (format!("{prefix}{name}"), value, unit))
+    .collect()
+}
+
+fn model_of(provenance: &Option<Provenance>, id: &str, version: &str, inside: bool) {
+    let provenance = provenance.as_ref().expect("provenance");
+    assert_eq!(provenance.model_id, id);
+    assert_eq!(provenance.model_version, version);
+    assert_eq!(provenance.api_version, "v1");
+    assert_eq!(provenance.within_validated_range, inside);
+    assert!(provenance.compute_time.is_some());
+    assert!(!provenance.build_commit.is_empty());
+}
+
+fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str)]) {
+    let got: Vec<(i32, &str)> = warnings
+        .iter()
+        .map(|w| (w.code, w.field.as_str()))
+        .collect();
+    let want: Vec<(i32, &str)> = expected.iter().map(|(c, f)| (*c as i32, *f)).collect();
+    assert_eq!(got, want);
+}
+
+/// A refusal's BadRequest violations (field, reason, description) and its
+/// ErrorInfo.
+fn details(details: &[prost_types::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
+    let mut violations = Vec::new();
+    let mut info = None;
+    for any in details {
+        match any.type_url.as_str() {
+            "type.googleapis.com/google.rpc.BadRequest" => {
+                let bad = pb::BadRequest::decode(any.value.as_slice()).expect("BadRequest");
+                violations.extend(
+                    bad.field_violations
+                        .into_iter()
+                        .map(|v| (v.field, v.reason, v.description)),
+                );
+            }
+            "type.googleapis.com/google.rpc.ErrorInfo" => {
+                info = Some(pb::ErrorInfo::decode(any.value.as_slice()).expect("ErrorInfo"));
+            }
+            other => panic!("unexpected detail {other}"),
+        }
+    }
+    (violations, info.expect("ErrorInfo present"))
+}
+
+fn metadata(info: &pb::ErrorInfo, expected: &[(&str, &str)]) {
+    let mut got: Vec<(&str, &str)> = info
+        .metadata
+        .iter()
+        .map(|(k, v)| (k.as_str(), v.as_str()))
+        .collect();
+    got.sort_unstable();
+    let mut want = expected.to_vec();
+    want.sort_unstable();
+    assert_eq!(got, want);
+}
+
+async fn dissociation(server: &TestServer) -> DissociationServiceClient<Channel> {
+    DissociationServiceClient::new(server.channel().await)
+}
+
+#[tokio::test]
+async fn saturation_from_tension_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .saturation_from_tension(saturation_from_tension_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    printed(r.saturation_fraction, "0.85577");
+    quantity(&r.p50_at_conditions, "33.202", "mm[Hg]");
+    printed(r.hill_slope, "2.9704");
+    model_of(&r.provenance, "severinghaus-1979", "1.0.0", true);
+    inputs_used(
+        &r.provenance,
+        &[
+            ("po2", "62", "mm[Hg]", false),
+            ("conditions.ph", "7.31", "[pH]", false),
+            ("conditions.pco2", "48", "mm[Hg]", false),
+            ("conditions.temperature", "38.5", "Cel", false),
+            ("conditions.dpg", "5", "mmol/L", true),
+            ("conditions.base_excess", "0", "mmol/L", true),
+            ("conditions.cohb", "0", "1", true),
+            ("conditions.methb", "0", "1", true),
+            ("conditions.hbf", "0", "1", true),
+        ],
+    );
+    warnings_are(
+        &r.warnings,
+        &[(WarningCode::ConditionNotModelled, "conditions.pco2")],
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn tension_from_saturation_examples_are_true() {
+    let server = TestServer::start().await;
+    let mut client = dissociation(&server).await;
+    let r = client
+        .tension_from_saturation(tension_from_saturation_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    quantity(&r.po2, "6.9086", "kPa");
+    quantity(&r.po2_change_per_percent, "0.22746", "kPa/%");
+    quantity(&r.p50_at_conditions, "3.3710", "kPa");
+    model_of(&r.provenance, "severinghaus-1979", "1.0.0", true);
+    let mut expected = vec![
+        ("saturation_fraction".to_owned(), "0.88", "1", false),
+        ("conditions.ph".to_owned(), "7.45", "[pH]", false),
+        ("conditions.pco2".to_owned(), "5.3329", "kPa", true),
+    ];
+    expected.extend(
+        standard_defaults("conditions.")
+            .into_iter()
+            .skip(2)
+            .map(|(n, v, u)| (n, v, u, true)),
+    );
+    let expected: Vec<(&str, &str, &str, bool)> = expected
+        .iter()
+        .map(|(n, v, u, d)| (n.as_str(), *v, *u, *d))
+        .collect();
+    inputs_used(&r.provenance, &expected);
+    warnings_are(&r.warnings, &[]);
+
+    let plateau = client
+        .tension_from_saturation(plateau_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    quantity(&plateau.po2, "114.96", "mm[Hg]");
+    quantity(&plateau.po2_change_per_percent, "26.132", "mm[Hg]/%");
+    warnings_are(
+        &plateau.warnings,
+        &[(WarningCode::PlateauPoorlyDetermined, "saturation_fraction")],
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn sample_curve_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .sample_curve(sample_curve_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    assert_eq!(r.curves.len(), 2);
+    let expected = [
+        ("26.857", ["0.31977", "0.74946", "0.90580", "0.95725"]),
+        ("38.959", ["0.15976", "0.51826", "0.77635", "0.89311"]),
+    ];
+    for (curve, (p50, saturations)) in r.curves.iter().zip(expected) {
+        quantity(&curve.p50, p50, "mm[Hg]");
+        assert_eq!(curve.po2_unit, "mm[Hg]");
+        let po2s: Vec<f64> = curve.points.iter().map(|p| p.po2).collect();
+        assert_eq!(po2s, [20.0, 40.0, 60.0, 80.0]);
+        for (point, s) in curve.points.iter().zip(saturations) {
+            printed(point.saturation_fraction, s);
+        }
+        model_of(&curve.provenance, "severinghaus-1979", "1.0.0", true);
+        warnings_are(&curve.warnings, &[]);
+    }
+    // The curve's conditions echo the set as sent (defaults not filled in).
+    assert_eq!(r.curves[0].conditions, Some(BloodConditions::default()));
+    assert_eq!(
+        r.curves[1].conditions,
+        sample_curve_example().condition_sets[1].clone().into()
+    );
+    let second = &r.curves[1].provenance.as_ref().unwrap().inputs_used;
+    let names: Vec<&str> = second.iter().take(5).map(|i| i.name.as_str()).collect();
+    assert_eq!(
+        names,
+        [
+            "po2_min",
+            "po2_max",
+            "point_count",
+            "condition_sets[1].ph",
+            "condition_sets[1].pco2"
+        ]
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn shift_factors_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .shift_factors(shift_factors_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    quantity(&r.p50_standard, "26.833", "mm[Hg]");
+    quantity(&r.p50_at_conditions, "35.463", "mm[Hg]");
+    printed(r.log10_p50_shift, "0.12110");
+    assert_eq!(r.direction, ShiftDirection::Right as i32);
+    printed(r.po2_correction_factor, "0.75666");
+    let expected = [
+        (ShiftFactor::Ph, "0.06000", ShiftDirection::Right),
+        (ShiftFactor::Pco2, "0.008298", ShiftDirection::Right),
+        (ShiftFactor::Temperature, "0.05280", ShiftDirection::Right),
+        (ShiftFactor::Dpg, "0", ShiftDirection::None),
+        (ShiftFactor::BaseExcess, "0", ShiftDirection::None),
+        (ShiftFactor::Cohb, "0", ShiftDirection::None),
+        (ShiftFactor::Methb, "0", ShiftDirection::None),
+        (ShiftFactor::Hbf, "0", ShiftDirection::None),
+    ];
+    assert_eq!(r.contributions.len(), expected.len());
+    for (c, (factor, shift, direction)) in r.contributions.iter().zip(expected) {
+        assert_eq!(c.factor, factor as i32);
+        printed(c.log10_p50_shift, shift);
+        assert_eq!(c.direction, direction as i32, "{factor:?}");
+    }
+    model_of(&r.provenance, "kelman-1966", "1.0.0", true);
+    warnings_are(&r.warnings, &[]);
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn estimate_p50_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .estimate_p50(estimate_p50_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    quantity(&r.p50_at_conditions, "27.507", "mm[Hg]");
+    quantity(&r.p50_standard, "26.291", "mm[Hg]");
+    quantity(&r.p50_at_conditions_curve_shift, "27.493", "mm[Hg]");
+    quantity(&r.p50_standard_curve_shift, "26.277", "mm[Hg]");
+    assert_eq!(r.fitted_hill_n, None);
+    assert_eq!(r.fit_rms_logit, 0.0);
+    model_of(&r.provenance, "severinghaus-1979", "1.0.0", true);
+    let used = &r.provenance.as_ref().unwrap().inputs_used;
+    let first: Vec<(&str, bool)> = used
+        .iter()
+        .take(5)
+        .map(|i| (i.name.as_str(), i.defaulted))
+        .collect();
+    assert_eq!(
+        first,
+        [
+            ("pairs[0].po2", false),
+            ("pairs[0].saturation_fraction", false),
+            ("pairs[0].conditions.ph", false),
+            ("pairs[0].conditions.pco2", false),
+            ("pairs[0].conditions.temperature", true),
+        ]
+    );
+    warnings_are(&r.warnings, &[]);
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn correct_for_temperature_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .correct_for_temperature(correct_for_temperature_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    printed(r.ph.expect("pH corrected"), "7.3767");
+    quantity(&r.pco2, "36.936", "mm[Hg]");
+    quantity(&r.po2, "73.388", "mm[Hg]");
+    model_of(&r.provenance, "", "1", true);
+    inputs_used(
+        &r.provenance,
+        &[
+            ("ph", "7.32", "[pH]", false),
+            ("pco2", "44", "mm[Hg]", false),
+            ("po2", "95", "mm[Hg]", false),
+            ("measured_temperature", "37", "Cel", true),
+            ("target_temperature", "33", "Cel", false),
+        ],
+    );
+    warnings_are(&r.warnings, &[]);
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn batch_saturation_from_tension_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .batch_saturation_from_tension(batch_saturation_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    assert_eq!(r.results.len(), 3);
+    let ok = |index: usize| match &r.results[index].result {
+        Some(saturation_from_tension_result::Result::Response(response)) => response.clone(),
+        other => panic!("item {index}: {other:?}"),
+    };
+    let first = ok(0);
+    printed(first.saturation_fraction, "0.96741");
+    quantity(&first.p50_at_conditions, "26.857", "mm[Hg]");
+    printed(first.hill_slope, "2.9620");
+    let third = ok(2);
+    printed(third.saturation_fraction, "0.77458");
+    printed(third.hill_slope, "2.8433");
+    let po2_used = &third.provenance.as_ref().unwrap().inputs_used[0];
+    assert_eq!(po2_used.name, "po2");
+    quantity(&po2_used.value, "42.003", "mm[Hg]");
+    let Some(saturation_from_tension_result::Result::Error(status)) = &r.results[1].result else {
+        panic!("item 1 refused: {:?}", r.results[1]);
+    };
+    assert_eq!(status.code, 3);
+    let po2_unit = "po2.unit has a unit code this field does not accept (UCUM writes it \
+`mm[Hg]`); accepted UCUM codes (case-sensitive): mm[Hg], kPa";
+    assert_eq!(status.message, po2_unit);
+    let (violations, info) = details(&status.details);
+    assert_eq!(
+        violations,
+        [(
+            "requests[1].po2.unit".to_owned(),
+            "UNIT_NOT_ACCEPTED".to_owned(),
+            po2_unit.to_owned()
+        )]
+    );
+    assert_eq!(info.reason, "UNIT_NOT_ACCEPTED");
+    assert_eq!(info.domain, "oxbind.v1");
+    metadata(
+        &info,
+        &[
+            ("accepted_units", "mm[Hg], kPa"),
+            ("field", "requests[1].po2.unit"),
+            ("violation_count", "1"),
+        ],
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn batch_tension_from_saturation_example_is_true() {
+    let server = TestServer::start().await;
+    let r = dissociation(&server)
+        .await
+        .batch_tension_from_saturation(batch_tension_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    assert_eq!(r.results.len(), 3);
+    for (index, po2, change) in [(0, "61.041", "2.5502"), (2, "40.040", "0.75489")] {
+        match &r.results[index].result {
+            Some(tension_from_saturation_result::Result::Response(response)) => {
+                quantity(&response.po2, po2, "mm[Hg]");
+                quantity(&response.po2_change_per_percent, change, "mm[Hg]/%");
+                warnings_are(&response.warnings, &[]);
+            }
+            other => panic!("item {index}: {other:?}"),
+        }
+    }
+    let Some(tension_from_saturation_result::Result::Error(status)) = &r.results[1].result else {
+        panic!("item 1 refused: {:?}", r.results[1]);
+    };
+    assert_eq!(status.code, 3);
+    let (violations, info) = details(&status.details);
+    let fields: Vec<(&str, &str)> = violations
+        .iter()
+        .map(|(f, r, _)| (f.as_str(), r.as_str()))
+        .collect();
+    assert_eq!(
+        fields,
+        [("requests[1].saturation_fraction", "SATURATION_OUT_OF_RANGE")]
+    );
+    assert_eq!(info.reason, "SATURATION_OUT_OF_RANGE");
+    metadata(
+        &info,
+        &[
+            ("field", "requests[1].saturation_fraction"),
+            ("max_fraction", "1"),
+            ("max_inclusive", "false"),
+            ("min_fraction", "0"),
+            ("min_inclusive", "false"),
+            ("violation_count", "1"),
+        ],
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn oxygen_content_example_is_true() {
+    let server = TestServer::start().await;
+    let r = OxygenTransportServiceClient::new(server.channel().await)
+        .oxygen_content(oxygen_content_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    quantity(&r.arterial_content, "14.499", "mL/dL");
+    quantity(&r.venous_content, "10.317", "mL/dL");
+    quantity(&r.arteriovenous_difference, "4.1824", "mL/dL");
+    printed(r.extraction_fraction.expect("extraction"), "0.28845");
+    quantity(&r.oxygen_capacity, "15.008", "mL/dL");
+    quantity(&r.delivery, "666.97", "mL/min");
+    quantity(&r.consumption, "192.39", "mL/min");
+    model_of(&r.provenance, "", "1", true);
+    let used = &r.provenance.as_ref().unwrap().inputs_used;
+    let given: Vec<&str> = used
+        .iter()
+        .filter(|i| !i.defaulted)
+        .map(|i| i.name.as_str())
+        .collect();
+    assert_eq!(
+        given,
+        [
+            "hemoglobin",
+            "arterial.po2",
+            "arterial.saturation_fraction",
+            "venous.po2",
+            "venous.saturation_fraction",
+            "cardiac_output"
+        ]
+    );
+    assert_eq!(used.len(), 6 + 2 * 8);
+    warnings_are(&r.warnings, &[]);
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn gas_exchange_example_is_true() {
+    let server = TestServer::start().await;
+    let r = OxygenTransportServiceClient::new(server.channel().await)
+        .gas_exchange(gas_exchange_example())
+        .await
+        .expect("computes")
+        .into_inner();
+    quantity(&r.alveolar_po2, "241.46", "mm[Hg]");
+    quantity(&r.alveolar_arterial_gradient, "169.46", "mm[Hg]");
+    printed(r.pao2_fio2_ratio.expect("P/F"), "180.00");
+    printed(r.spo2_fio2_ratio.expect("S/F"), "232.50");
+    quantity(&r.imputed_pao2, "67.005", "mm[Hg]");
+    printed(r.imputed_pao2_fio2_ratio.expect("imputed P/F"), "167.51");
+    printed(r.oxygenation_index.expect("OI"), "7.7778");
+    printed(r.oxygen_saturation_index.expect("OSI"), "6.0215");
+    assert_eq!(r.shunt_fraction, None);
+    model_of(&r.provenance, "", "1", true);
+    inputs_used(
+        &r.provenance,
+        &[
+            ("fio2", "0.4", "1", false),
+            ("barometric_pressure", "760", "mm[Hg]", true),
+            ("paco2", "38", "mm[Hg]", false),
+            ("pao2", "72", "mm[Hg]", false),
+            ("respiratory_quotient", "0.8", "1", true),
+            ("spo2_fraction", "0.93", "1", false),
+            ("mean_airway_pressure", "14", "cm[H2O]", false),
+            ("body_temperature", "37", "Cel", true),
+        ],
+    );
+    warnings_are(&r.warnings, &[]);
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn list_models_example_is_true() {
+    let server = TestServer::start().await;
+    let r = ModelCatalogServiceClient::new(server.channel().await)
+        .list_models(ListModelsRequest {})
+        .await
+        .expect("lists")
+        .into_inner();
+    let models: Vec<(i32, &str, bool)> = r
+        .models
+        .iter()
+        .map(|m| (m.model, m.model_id.as_str(), m.is_default))
+        .collect();
+    assert_eq!(
+        models,
+        [
+            (Model::Severinghaus1979 as i32, "severinghaus-1979", true),
+            (Model::Kelman1966 as i32, "kelman-1966", false),
+            (Model::Hill as i32, "hill", false),
+            (Model::Adair as i32, "adair", false),
+            (
+                Model::SiggaardAndersen1984 as i32,
+                "siggaard-andersen-1984",
+                false
+            ),
+            (Model::Dash2016 as i32, "dash-2016", false),
+        ]
+    );
+    let severinghaus = &r.models[0];
+    assert_eq!(severinghaus.doi, "10.1152/jappl.1979.46.3.599");
+    assert_eq!(severinghaus.model_version, "1.0.0");
+    assert_eq!(
+        severinghaus.honoured_conditions,
+        [
+            ShiftFactor::Ph as i32,
+            ShiftFactor::Temperature as i32,
+            ShiftFactor::BaseExcess as i32,
+            ShiftFactor::Cohb as i32
+        ]
+    );
+    let ranges: Vec<(&str, f64, f64, &str)> = severinghaus
+        .validated_ranges
+        .iter()
+        .map(|v| {
+            let (min, max) = (v.min.as_ref().unwrap(), v.max.as_ref().unwrap());
+            (v.input.as_str(), min.value, max.value, min.unit.as_str())
+        })
+        .collect();
+    assert_eq!(
+        ranges,
+        [
+            ("conditions.ph", 6.8, 7.8, "[pH]"),
+            ("conditions.temperature", 20.0, 43.0, "Cel"),
+            ("conditions.base_excess", -30.0, 30.0, "mmol/L"),
+        ]
+    );
+    let kelman = &r.models[1];
+    let range = &kelman.validated_ranges[0];
+    assert_eq!(range.input, "po2");
+    quantity(&range.min, "10", "mm[Hg]");
+    quantity(&range.max, "7600", "mm[Hg]");
+    let presets: Vec<(i32, f64, f64)> = r.models[2]
+        .hill_presets
+        .iter()
+        .map(|p| (p.preset, p.p50.as_ref().unwrap().value, p.n))
+        .collect();
+    assert_eq!(
+        presets,
+        [
+            (HillPreset::Adult as i32, 26.8, 2.7),
+            (HillPreset::Fetal as i32, 19.5, 2.7),
+            (HillPreset::Myoglobin as i32, 2.8, 1.0),
+        ]
+    );
+    assert_eq!(
+        r.cautions,
+        "Oxbind results are decision support only. They are computed from published \
+equations and do not replace measured co-oximetry or the judgement of a licensed clinician. \
+Local laboratory policy decides which values are reported, in which units and with which \
+model. Pass every warning on with the value it concerns."
+    );
+    // The limits table of API.md: (input, min, min_inclusive, max, max_inclusive, unit,
+    // error reason).
+    let limits: Vec<(&str, f64, bool, f64, bool, &str, &str)> = r
+        .input_limits
+        .iter()
+        .map(|l| {
+            let (min, max) = (l.min.as_ref().unwrap(), l.max.as_ref().unwrap());
+            (
+                l.input.as_str(),
+                min.value,
+                l.min_inclusive,
+                max.value,
+                l.max_inclusive,
+                min.unit.as_str(),
+                l.error_reason.as_str(),
+            )
+        })
+        .collect();
+    assert_eq!(
+        limits,
+        [
+            ("ph", 6.0, true, 8.5, true, "[pH]", "PH_OUT_OF_RANGE"),
+            (
+                "pressure",
+                0.0,
+                false,
+                1e7,
+                true,
+                "mm[Hg]",
+                "PRESSURE_OUT_OF_RANGE"
+            ),
+            (
+                "barometric_pressure",
+                150.0,
+                true,
+                1e7,
+                true,
+                "mm[Hg]",
+                "BAROMETRIC_PRESSURE_OUT_OF_RANGE"
+            ),
+            (
+                "temperature",
+                10.0,
+                true,
+                46.0,
+                true,
+                "Cel",
+                "TEMPERATURE_OUT_OF_RANGE"
+            ),
+            (
+                "saturation_open",
+                0.0,
+                false,
+                1.0,
+                false,
+                "1",
+                "SATURATION_OUT_OF_RANGE"
+            ),
+            (
+                "saturation_measured",
+                0.0,
+                true,
+                1.0,
+                true,
+                "1",
+                "SATURATION_OUT_OF_RANGE"
+            ),
+            (
+                "dyshemoglobin_fraction",
+                0.0,
+                true,
+                1.0,
+                false,
+                "1",
+                "FRACTION_OUT_OF_RANGE"
+            ),
+            (
+                "hbf_fraction",
+                0.0,
+                true,
+                1.0,
+                true,
+                "1",
+                "FRACTION_OUT_OF_RANGE"
+            ),
+            ("dpg", 0.0, true, 20.0, true, "mmol/L", "DPG_OUT_OF_RANGE"),
+            (
+                "base_excess",
+                -50.0,
+                true,
+                50.0,
+                true,
+                "mmol/L",
+                "BASE_EXCESS_OUT_OF_RANGE"
+            ),
+            (
+                "hemoglobin",
+                0.0,
+                false,
+                30.0,
+                true,
+                "g/dL",
+                "HEMOGLOBIN_OUT_OF_RANGE"
+            ),
+            ("fio2", 0.05, true, 1.0, true, "1", "FIO2_OUT_OF_RANGE"),
+            ("hill_n", 0.0, false, 4.0, true, "1", "HILL_N_OUT_OF_RANGE"),
+            (
+                "hufner_factor",
+                1.3,
+                true,
+                1.4,
+                true,
+                "mL/g",
+                "HUFNER_FACTOR_OUT_OF_RANGE"
+            ),
+            (
+                "cardiac_output",
+                0.0,
+                false,
+                40.0,
+                true,
+                "L/min",
+                "CARDIAC_OUTPUT_OUT_OF_RANGE"
+            ),
+            (
+                "respiratory_quotient",
+                0.5,
+                true,
+                2.0,
+                true,
+                "1",
+                "RESPIRATORY_QUOTIENT_OUT_OF_RANGE"
+            ),
+            (
+                "mean_airway_pressure",
+                0.0,
+                false,
+                200.0,
+                true,
+                "cm[H2O]",
+                "MEAN_AIRWAY_PRESSURE_OUT_OF_RANGE"
+            ),
+            (
+                "curve_points",
+                2.0,
+                true,
+                10_000.0,
+                true,
+                "1",
+                "POINT_COUNT_OUT_OF_RANGE"
+            ),
+            (
+                "curve_condition_sets",
+                0.0,
+                true,
+                10.0,
+                true,
+                "1",
+                "TOO_MANY_CONDITION_SETS"
+            ),
+            (
+                "measured_pairs",
+                1.0,
+                true,
+                10_000.0,
+                true,
+                "1",
+                "PAIR_COUNT_OUT_OF_RANGE"
+            ),
+            (
+                "batch_items",
+                1.0,
+                true,
+                10_000.0,
+                true,
+                "1",
+                "BATCH_TOO_LARGE"
+            ),
+        ]
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn refused_request_example_is_true() {
+    let server = TestServer::start().await;
+    let status = dissociation(&server)
+        .await
+        .saturation_from_tension(refused_example())
+        .await
+        .expect_err("refused");
+    assert_eq!(status.code(), tonic::Code::InvalidArgument);
+    let po2 = "po2.value must lie in (0, 10000000] mm[Hg]: a partial pressure must be \
+positive; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment";
+    assert_eq!(
+        status.message(),
+        format!("{po2} (and 2 more invalid fields)")
+    );
+    let rpc = pb::Status::decode(status.details()).expect("grpc-status-details-bin decodes");
+    assert_eq!(rpc.code, 3);
+    assert_eq!(rpc.message, status.message());
+    let (violations, info) = details(&rpc.details);
+    let expected = [
+        ("po2.value", "PRESSURE_OUT_OF_RANGE", po2),
+        (
+            "conditions.ph",
+            "PH_OUT_OF_RANGE",
+            "conditions.ph must lie in [6, 8.5] [pH]: a blood pH outside 6.0-8.5 is not \
+survivable; such a value is a transcription or unit error",
+        ),
+        (
+            "conditions.temperature.unit",
+            "UNIT_NOT_ACCEPTED",
+            "conditions.temperature.unit has a unit code this field does not accept (UCUM \
+writes it `Cel`); accepted UCUM codes (case-sensitive): Cel, [degF]",
+        ),
+    ];
+    let violations: Vec<(&str, &str, &str)> = violations
+        .iter()
+        .map(|(f, r, d)| (f.as_str(), r.as_str(), d.as_str()))
+        .collect();
+    assert_eq!(violations, expected);
+    assert_eq!(info.reason, "PRESSURE_OUT_OF_RANGE");
+    assert_eq!(info.domain, "oxbind.v1");
+    metadata(
+        &info,
+        &[
+            ("field", "po2.value"),
+            ("max_inclusive", "true"),
+            ("max_mmhg", "10000000"),
+            ("min_inclusive", "false"),
+            ("min_mmhg", "0"),
+            ("violation_count", "3"),
+        ],
+    );
+    server.stop().await;
+}
