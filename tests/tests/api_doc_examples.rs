@@ -740,6 +740,65 @@ async fn list_models_example_is_true() {
             ("conditions.base_excess", -30.0, 30.0, "mmol/L"),
         ]
     );
+    // The model summary table of API.md 7.11: honoured conditions and
+    // validated ranges (input, min, max) of every model.
+    use ShiftFactor as F;
+    type Ranges<'a> = Vec<(&'a str, f64, f64)>;
+    let summary: Vec<(Vec<i32>, Ranges<'_>)> = r
+        .models
+        .iter()
+        .map(|m| {
+            let ranges = m
+                .validated_ranges
+                .iter()
+                .map(|v| {
+                    let (min, max) = (v.min.as_ref().unwrap(), v.max.as_ref().unwrap());
+                    (v.input.as_str(), min.value, max.value)
+                })
+                .collect();
+            (m.honoured_conditions.clone(), ranges)
+        })
+        .collect();
+    let ids = |factors: &[F]| factors.iter().map(|f| *f as i32).collect::<Vec<i32>>();
+    assert_eq!(
+        summary,
+        [
+            (
+                ids(&[F::Ph, F::Temperature, F::BaseExcess, F::Cohb]),
+                vec![
+                    ("conditions.ph", 6.8, 7.8),
+                    ("conditions.temperature", 20.0, 43.0),
+                    ("conditions.base_excess", -30.0, 30.0)
+                ]
+            ),
+            (
+                ids(&[F::Ph, F::Pco2, F::Temperature, F::Cohb]),
+                vec![("po2", 10.0, 7600.0)]
+            ),
+            (
+                ids(&[F::Ph, F::Pco2, F::Temperature, F::Dpg, F::Cohb]),
+                vec![("saturation_fraction", 0.1, 0.9)]
+            ),
+            (ids(&[F::Cohb]), vec![("po2", 5.0, 150.0)]),
+            (
+                ids(&[F::Ph, F::Temperature, F::Dpg, F::BaseExcess, F::Cohb]),
+                vec![
+                    ("conditions.ph", 6.8, 7.8),
+                    ("conditions.temperature", 20.0, 43.0),
+                    ("conditions.dpg", 1.0, 12.0)
+                ]
+            ),
+            (
+                ids(&[F::Ph, F::Pco2, F::Temperature, F::Dpg, F::Cohb]),
+                vec![
+                    ("conditions.ph", 6.8, 7.8),
+                    ("conditions.pco2", 10.0, 100.0),
+                    ("conditions.temperature", 25.0, 42.0),
+                    ("conditions.dpg", 1.0, 12.0)
+                ]
+            ),
+        ]
+    );
     let kelman = &r.models[1];
     let range = &kelman.validated_ranges[0];
     assert_eq!(range.input, "po2");
