@@ -25,7 +25,16 @@ const SHIFTED: Conditions = Conditions {
     hbf_fraction: None,
 };
 
-/// The same with 8 % COHb (Haldane path).
+/// pH, PCO2 and base excess only, at 37 °C (closed form for every model: no
+/// temperature integration in Severinghaus).
+const ACID_BASE: Conditions = Conditions {
+    ph: Some(7.31),
+    pco2_mmhg: Some(48.0),
+    base_excess_mmol_per_l: Some(-3.0),
+    ..Conditions::STANDARD
+};
+
+/// The shifted conditions with 8 % COHb (Haldane path).
 const WITH_COHB: Conditions = Conditions {
     cohb_fraction: Some(0.08),
     ..SHIFTED
@@ -43,6 +52,9 @@ fn forward(c: &mut Criterion) {
         let id = model.info().id;
         c.bench_function(&format!("forward/{id}/standard"), |b| {
             b.iter(|| model.saturation(black_box(47.3), black_box(&Conditions::STANDARD)))
+        });
+        c.bench_function(&format!("forward/{id}/acid_base"), |b| {
+            b.iter(|| model.saturation(black_box(47.3), black_box(&ACID_BASE)))
         });
         c.bench_function(&format!("forward/{id}/shifted"), |b| {
             b.iter(|| model.saturation(black_box(47.3), black_box(&SHIFTED)))

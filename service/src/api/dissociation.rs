@@ -9,12 +9,12 @@ use oxbind_proto::v1::{
     dissociation_service_server::DissociationService, saturation_from_tension_result,
     tension_from_saturation_result, BatchSaturationFromTensionRequest,
     BatchSaturationFromTensionResponse, BatchTensionFromSaturationRequest,
-    BatchTensionFromSaturationResponse, CorrectForTemperatureRequest,
+    BatchTensionFromSaturationResponse, BloodConditions, CorrectForTemperatureRequest,
     CorrectForTemperatureResponse, Curve, CurvePoint, CurveSpacing, EstimateP50Request,
     EstimateP50Response, FactorContribution, Quantity, SampleCurveRequest, SampleCurveResponse,
     SaturationFromTensionRequest, SaturationFromTensionResponse, SaturationFromTensionResult,
     ShiftFactorsRequest, ShiftFactorsResponse, TensionFromSaturationRequest,
-    TensionFromSaturationResponse, TensionFromSaturationResult, WarningCode,
+    TensionFromSaturationResponse, TensionFromSaturationResult, UnitSystem, WarningCode,
 };
 use tonic::{Request, Response, Status};
 
@@ -31,9 +31,9 @@ use super::{
     warnings::{self, warning, PLATEAU_SATURATION},
 };
 use crate::physiology::{
-    conditions::Condition,
+    conditions::{Condition, Conditions},
     error::{Input, PhysiologyError},
-    model::DissociationModel,
+    model::{DissociationModel, Model},
     p50_estimation::{self, MeasuredPair, Standardisation},
     shift::{self, ShiftDirection},
     temperature::{self, BloodGasTemperatureInput},
@@ -205,7 +205,7 @@ pub fn compute_saturation_from_tension(
     request: &SaturationFromTensionRequest,
 ) -> Result<SaturationFromTensionResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let mut reader = RequestReader::new(units::unit_system(request.unit_system));
+    let mut reader = RequestReader::new(request.unit_system);
     let po2_path = root.field("po2");
     let po2 = reader.required_quantity(
         request.po2.as_ref(),
@@ -213,9 +213,9 @@ pub fn compute_saturation_from_tension(
         QuantityKind::Pressure,
         &limits::PRESSURE,
     );
-    let conditions_path = root.field("conditions");
-    let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path);
     let model = choose_model(&mut reader, request.model, request.hill.as_ref(), &root);
+    let conditions_path = root.field("conditions");
+    let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path, &model);
     let system = reader.system();
     let inputs_used = reader.finish()?;
     let po2 = po2.unwrap_or_default();
@@ -248,7 +248,7 @@ pub fn compute_tension_from_saturation(
     request: &TensionFromSaturationRequest,
 ) -> Result<TensionFromSaturationResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let mut reader = RequestReader::new(units::unit_system(request.unit_system));
+    let mut reader = RequestReader::new(request.unit_system);
     let saturation_path = root.field("saturation_fraction");
     let saturation = reader.number(
         request.saturation_fraction,
@@ -256,9 +256,9 @@ pub fn compute_tension_from_saturation(
         &limits::SATURATION_OPEN,
         QuantityKind::Fraction,
     );
-    let conditions_path = root.field("conditions");
-    let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path);
     let model = choose_model(&mut reader, request.model, request.hill.as_ref(), &root);
+    let conditions_path = root.field("conditions");
+    let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path, &model);
     let system = reader.system();
     let inputs_used = reader.finish()?;
     let saturation = saturation.unwrap_or(0.5);
@@ -316,8 +316,8 @@ pub fn compute_sample_curve(
     request: &SampleCurveRequest,
 ) -> Result<SampleCurveResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let system = units::unit_system(request.unit_system);
-    let mut reader = RequestReader::new(system);
+    let mut reader = RequestReader::new(request.unit_system);
+    let system = reader.system();
     let po2_min = reader.quantity_or(
         request.po2_min.as_ref(),
         &root.field("po2_min"),
@@ -384,11 +384,12 @@ pub fn compute_sample_curve(
     let po2_unit = units::output_unit(QuantityKind::Pressure, system);
     let mut curves = Vec::with_capacity(sets.len());
     for (index, set) in sets.iter().enumerate() {
-        let mut reader = RequestReader::new(system);
+        let mut reader = RequestReader::in_system(system);
         let set_path = root.indexed("condition_sets", index);
-        let conditions = reader.conditions(Some(set), &set_path);
+        let conditions = reader.conditions(Some(set), &set_path, &model);
         let mut inputs_used = shared_inputs.clone();
         inputs_used.extend(reader.finish()?);
+        inputs_used.sort_by_key(|input| input.defaulted);
         let set_field = format!("condition_sets[{index}]");
         let refuse = |e: PhysiologyError| engine_refusal(&e, &set_field);
         let p50 = model.p50_mmhg(&conditions).map_err(refuse)?;
@@ -430,7 +431,7 @@ pub fn compute_sample_curve(
             ));
         }
         curves.push(Curve {
-            conditions: Some(set.clone()),
+            conditions: Some(filled_conditions(&conditions, &model, system)),
             p50: Some(units::from_engine(p50, QuantityKind::Pressure, system)),
             points,
             po2_unit: po2_unit.to_owned(),
@@ -443,6 +444,44 @@ pub fn compute_sample_curve(
         });
     }
     Ok(SampleCurveResponse { curves })
+}
+
+/// The conditions a curve was computed for, with every default filled in, in
+/// the response's unit system.
+fn filled_conditions(
+    conditions: &Conditions,
+    model: &Model,
+    system: UnitSystem,
+) -> BloodConditions {
+    let fraction = |v: f64| units::from_engine(v, QuantityKind::Fraction, system);
+    BloodConditions {
+        ph: Some(conditions.ph()),
+        pco2: Some(units::from_engine(
+            conditions.pco2_mmhg(),
+            QuantityKind::Pressure,
+            system,
+        )),
+        temperature: Some(units::from_engine(
+            conditions.temperature_celsius(),
+            QuantityKind::Temperature,
+            system,
+        )),
+        dpg: Some(units::from_engine(
+            conditions
+                .dpg_mmol_per_l
+                .unwrap_or_else(|| model.standard_dpg_mmol_per_l()),
+            QuantityKind::Concentration,
+            system,
+        )),
+        base_excess: Some(units::from_engine(
+            conditions.base_excess_mmol_per_l(),
+            QuantityKind::Concentration,
+            system,
+        )),
+        cohb: Some(fraction(conditions.cohb_fraction())),
+        methb: Some(fraction(conditions.methb_fraction())),
+        hbf: Some(fraction(conditions.hbf_fraction())),
+    }
 }
 
 /// The wire value of a shift direction.
@@ -475,10 +514,10 @@ pub fn compute_shift_factors(
     request: &ShiftFactorsRequest,
 ) -> Result<ShiftFactorsResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let mut reader = RequestReader::new(units::unit_system(request.unit_system));
-    let conditions_path = root.field("conditions");
-    let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path);
+    let mut reader = RequestReader::new(request.unit_system);
     let model = choose_model(&mut reader, request.model, None, &root);
+    let conditions_path = root.field("conditions");
+    let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path, &model);
     let system = reader.system();
     let inputs_used = reader.finish()?;
 
@@ -521,8 +560,8 @@ pub fn compute_estimate_p50(
     request: &EstimateP50Request,
 ) -> Result<EstimateP50Response, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let system = units::unit_system(request.unit_system);
-    let mut reader = RequestReader::new(system);
+    let mut reader = RequestReader::new(request.unit_system);
+    let system = reader.system();
     if !limits::MEASURED_PAIRS.accepts(request.pairs.len() as f64) {
         reader.refuse(Violation::outside_limit(
             &root.field("pairs"),
@@ -545,8 +584,11 @@ pub fn compute_estimate_p50(
             &limits::SATURATION_OPEN,
             QuantityKind::Fraction,
         );
-        let conditions =
-            reader.conditions(pair.conditions.as_ref(), &pair_path.field("conditions"));
+        let conditions = reader.conditions(
+            pair.conditions.as_ref(),
+            &pair_path.field("conditions"),
+            &model,
+        );
         if let (Some(po2_mmhg), Some(saturation)) = (po2, saturation) {
             pairs.push((
                 index,
@@ -571,6 +613,18 @@ pub fn compute_estimate_p50(
     };
 
     let mut found = Vec::new();
+    let mut inside = true;
+    for (index, pair) in &pairs {
+        let pair_path = root.indexed("pairs", *index);
+        let po2_path = pair_path.field("po2");
+        inside &= warnings::validated_ranges(
+            &model,
+            &pair.conditions,
+            &pair_path.field("conditions"),
+            Some((Input::Po2, pair.po2_mmhg, &po2_path)),
+            &mut found,
+        );
+    }
     let response = if let [(index, pair)] = pairs.as_slice() {
         let single = p50_estimation::single_point_p50(pair, &model, method)
             .map_err(|e| pair_refusal(*index, e))?;
@@ -604,7 +658,7 @@ pub fn compute_estimate_p50(
                 QuantityKind::Pressure,
                 system,
             )),
-            provenance: Some(provenance::for_model(model.info(), inputs_used, true)),
+            provenance: Some(provenance::for_model(model.info(), inputs_used, inside)),
             warnings: found,
         }
     } else {
@@ -628,7 +682,7 @@ pub fn compute_estimate_p50(
             fit_rms_logit: fit.rms_logit_residual,
             p50_at_conditions_curve_shift: None,
             p50_standard_curve_shift: None,
-            provenance: Some(provenance::for_model(model.info(), inputs_used, true)),
+            provenance: Some(provenance::for_model(model.info(), inputs_used, inside)),
             warnings: found,
         }
     };
@@ -657,8 +711,8 @@ pub fn compute_correct_for_temperature(
     request: &CorrectForTemperatureRequest,
 ) -> Result<CorrectForTemperatureResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let system = units::unit_system(request.unit_system);
-    let mut reader = RequestReader::new(system);
+    let mut reader = RequestReader::new(request.unit_system);
+    let system = reader.system();
     let ph = reader.ph(request.ph, &root.field("ph"));
     let pco2 = reader.quantity(
         request.pco2.as_ref(),

@@ -5,7 +5,13 @@
 //! a model's validated range are soft limits: they compute and draw a warning
 //! (see the model descriptions in the physiology engine).
 
-use crate::physiology::{content, gas_exchange, hill, model::PO2_MAX_MMHG, temperature};
+use crate::physiology::{content, gas_exchange, hill, temperature};
+
+/// Highest partial or barometric pressure accepted, mmHg: ten standard
+/// atmospheres, beyond any hyperbaric treatment (our judgement). The engine
+/// itself accepts far higher tensions, so that its inverses can be checked
+/// over their whole saturation range; requests cannot.
+pub const PRESSURE_MAX_MMHG: f64 = 7600.0;
 
 /// A hard limit on one kind of input, in the engine's unit.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -51,13 +57,17 @@ impl HardLimit {
 
     /// The accepted interval in interval notation, e.g. `(0, 7600] mm[Hg]`.
     pub fn describe(&self) -> String {
+        let unit = if self.unit == "1" {
+            String::new()
+        } else {
+            format!(" {}", self.unit)
+        };
         format!(
-            "{}{}, {}{} {}",
+            "{}{}, {}{}{unit}",
             if self.min_inclusive { "[" } else { "(" },
             self.min,
             self.max,
             if self.max_inclusive { "]" } else { ")" },
-            self.unit
         )
     }
 }
@@ -69,6 +79,8 @@ pub const PH: HardLimit = HardLimit {
         "conditions.ph",
         "condition_sets[].ph",
         "pairs[].conditions.ph",
+        "arterial.conditions.ph",
+        "venous.conditions.ph",
         "ph",
     ],
     unit: "[pH]",
@@ -88,6 +100,10 @@ pub const PRESSURE: HardLimit = HardLimit {
         "po2",
         "pco2",
         "conditions.pco2",
+        "condition_sets[].pco2",
+        "pairs[].conditions.pco2",
+        "arterial.conditions.pco2",
+        "venous.conditions.pco2",
         "pao2",
         "paco2",
         "po2_min",
@@ -101,7 +117,7 @@ pub const PRESSURE: HardLimit = HardLimit {
     unit_key: "mmhg",
     min: 0.0,
     min_inclusive: false,
-    max: PO2_MAX_MMHG,
+    max: PRESSURE_MAX_MMHG,
     max_inclusive: true,
     error_reason: "PRESSURE_OUT_OF_RANGE",
     reason: "a partial pressure must be positive; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment",
@@ -115,7 +131,7 @@ pub const BAROMETRIC_PRESSURE: HardLimit = HardLimit {
     unit_key: "mmhg",
     min: 150.0,
     min_inclusive: true,
-    max: PO2_MAX_MMHG,
+    max: PRESSURE_MAX_MMHG,
     max_inclusive: true,
     error_reason: "BAROMETRIC_PRESSURE_OUT_OF_RANGE",
     reason: "below 150 mm[Hg] lies above the highest summit on Earth; above 10 atm is beyond any hyperbaric chamber",
@@ -127,6 +143,9 @@ pub const TEMPERATURE: HardLimit = HardLimit {
     fields: &[
         "conditions.temperature",
         "condition_sets[].temperature",
+        "pairs[].conditions.temperature",
+        "arterial.conditions.temperature",
+        "venous.conditions.temperature",
         "measured_temperature",
         "target_temperature",
         "body_temperature",
@@ -162,7 +181,6 @@ pub const SATURATION_MEASURED: HardLimit = HardLimit {
     fields: &[
         "arterial.saturation_fraction",
         "venous.saturation_fraction",
-        "spo2_fraction",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -174,6 +192,20 @@ pub const SATURATION_MEASURED: HardLimit = HardLimit {
     reason: "a saturation is a fraction between 0 and 1 (send percentages with unit-less fields divided by 100)",
 };
 
+/// A pulse-oximetry saturation.
+pub const SPO2: HardLimit = HardLimit {
+    input: "spo2",
+    fields: &["spo2_fraction"],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: false,
+    max: 1.0,
+    max_inclusive: true,
+    error_reason: "SATURATION_OUT_OF_RANGE",
+    reason: "a pulse oximeter reading is a fraction above 0 and at most 1",
+};
+
 /// Carboxyhaemoglobin and methaemoglobin fractions, each; their sum must also
 /// stay below 1.
 pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
@@ -181,6 +213,10 @@ pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
     fields: &[
         "conditions.cohb",
         "conditions.methb",
+        "condition_sets[].cohb",
+        "condition_sets[].methb",
+        "pairs[].conditions.cohb",
+        "pairs[].conditions.methb",
         "arterial.cohb",
         "arterial.methb",
         "venous.cohb",
@@ -199,7 +235,11 @@ pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
 /// Fetal haemoglobin fraction.
 pub const HBF_FRACTION: HardLimit = HardLimit {
     input: "hbf_fraction",
-    fields: &["conditions.hbf"],
+    fields: &[
+        "conditions.hbf",
+        "condition_sets[].hbf",
+        "pairs[].conditions.hbf",
+    ],
     unit: "1",
     unit_key: "fraction",
     min: 0.0,
@@ -213,7 +253,7 @@ pub const HBF_FRACTION: HardLimit = HardLimit {
 /// Red-cell 2,3-DPG.
 pub const DPG: HardLimit = HardLimit {
     input: "dpg",
-    fields: &["conditions.dpg"],
+    fields: &["conditions.dpg", "condition_sets[].dpg", "pairs[].conditions.dpg"],
     unit: "mmol/L",
     unit_key: "mmol_per_l",
     min: 0.0,
@@ -227,7 +267,11 @@ pub const DPG: HardLimit = HardLimit {
 /// Whole-blood base excess.
 pub const BASE_EXCESS: HardLimit = HardLimit {
     input: "base_excess",
-    fields: &["conditions.base_excess"],
+    fields: &[
+        "conditions.base_excess",
+        "condition_sets[].base_excess",
+        "pairs[].conditions.base_excess",
+    ],
     unit: "mmol/L",
     unit_key: "mmol_per_l",
     min: -50.0,
@@ -382,13 +426,14 @@ pub const MEASURED_PAIRS: HardLimit = HardLimit {
 };
 
 /// Every hard limit, in the order the catalog lists them.
-pub const ALL: [&HardLimit; 20] = [
+pub const ALL: [&HardLimit; 21] = [
     &PH,
     &PRESSURE,
     &BAROMETRIC_PRESSURE,
     &TEMPERATURE,
     &SATURATION_OPEN,
     &SATURATION_MEASURED,
+    &SPO2,
     &DYSHEMOGLOBIN_FRACTION,
     &HBF_FRACTION,
     &DPG,

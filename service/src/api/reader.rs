@@ -11,7 +11,10 @@ use super::{
     status::{InvalidRequest, Violation, REASON_FRACTIONS_SUM},
     units::{self, QuantityKind},
 };
-use crate::physiology::conditions::{self as engine_conditions, Conditions};
+use crate::physiology::{
+    conditions::{self as engine_conditions, Conditions},
+    model::Model,
+};
 
 /// Collects the inputs of one request (or one batch item).
 #[derive(Debug)]
@@ -22,8 +25,24 @@ pub struct RequestReader {
 }
 
 impl RequestReader {
+    /// A reader reporting inputs in the request's `unit_system` (its raw enum
+    /// value; UNSPECIFIED means conventional, an unknown value is refused).
+    pub fn new(raw_unit_system: i32) -> Self {
+        let mut reader = Self::in_system(UnitSystem::Conventional);
+        match UnitSystem::try_from(raw_unit_system) {
+            Ok(UnitSystem::Si) => reader.system = UnitSystem::Si,
+            Ok(_) => {}
+            Err(_) => reader.refuse(Violation::other(
+                &FieldPath::ROOT.field("unit_system"),
+                super::status::REASON_UNKNOWN_ENUM,
+                "not a known oxbind.v1.UnitSystem value",
+            )),
+        }
+        reader
+    }
+
     /// A reader reporting inputs in `system`.
-    pub fn new(system: UnitSystem) -> Self {
+    pub fn in_system(system: UnitSystem) -> Self {
         Self {
             system,
             violations: Vec::new(),
@@ -161,13 +180,14 @@ impl RequestReader {
         self.record_raw(path, value, "[pH]", true);
     }
 
-    /// Read blood conditions below `path`; absent fields keep `None` in the
-    /// result (standard conditions) and are recorded as defaulted with the
-    /// standard value.
+    /// Read blood conditions below `path` for `model`; absent fields keep
+    /// `None` in the result (standard conditions) and are recorded as
+    /// defaulted with the standard value the model uses.
     pub fn conditions(
         &mut self,
         conditions: Option<&BloodConditions>,
         path: &FieldPath<'_>,
+        model: &Model,
     ) -> Conditions {
         let empty = BloodConditions::default();
         let given = conditions.unwrap_or(&empty);
@@ -213,7 +233,7 @@ impl RequestReader {
             "dpg",
             QuantityKind::Concentration,
             &limits::DPG,
-            engine_conditions::STANDARD_DPG_MMOL_PER_L,
+            model.standard_dpg_mmol_per_l(),
         );
         let base_excess = read(
             self,
@@ -279,8 +299,13 @@ impl RequestReader {
     }
 
     /// Finish reading: the inputs used, or the refusal listing every bad field.
-    pub fn finish(self) -> Result<Vec<InputUsed>, InvalidRequest> {
+    ///
+    /// The inputs come explicit ones first, then defaulted ones, each group in
+    /// the order the request's fields were read.
+    pub fn finish(mut self) -> Result<Vec<InputUsed>, InvalidRequest> {
         if self.violations.is_empty() {
+            // A stable sort keeps the reading order within each group.
+            self.inputs_used.sort_by_key(|input| input.defaulted);
             Ok(self.inputs_used)
         } else {
             Err(InvalidRequest::new(self.violations))

@@ -186,6 +186,8 @@ impl InvalidRequest {
     pub fn within_item(mut self, name: &str, index: usize) -> Self {
         for violation in &mut self.violations {
             violation.field = format!("{name}[{index}].{}", violation.field);
+            // Every description starts with the field path it concerns.
+            violation.description = format!("{name}[{index}].{}", violation.description);
         }
         self
     }

@@ -3,8 +3,8 @@
 
 use oxbind_proto::v1::{
     oxygen_transport_service_server::OxygenTransportService, AlveolarEquation, BloodSample,
-    GasExchangeRequest, GasExchangeResponse, OxygenContentRequest, OxygenContentResponse,
-    SaturationKind as WireSaturationKind, Warning, WarningCode,
+    GasExchangeRequest, GasExchangeResponse, InputUsed, OxygenContentRequest,
+    OxygenContentResponse, Quantity, SaturationKind as WireSaturationKind, Warning, WarningCode,
 };
 use tonic::{Request, Response, Status};
 
@@ -76,6 +76,9 @@ impl OxygenTransportService for TransportApi {
 struct ReadSample {
     sample: BloodOxygenSample,
     calculated: bool,
+    /// Conditions or a model were given with a measured saturation, which
+    /// makes them unused.
+    unused_conditions: bool,
 }
 
 /// Read a `BloodSample` at `path`. `fallback_po2` supplies the tension when
@@ -126,9 +129,22 @@ fn read_sample(
         QuantityKind::Fraction,
         &limits::DYSHEMOGLOBIN_FRACTION,
     );
+    // Conditions and model only serve to calculate a missing saturation;
+    // with a measured one they are not read (and the caller is warned).
+    let measured = sample.saturation_fraction.is_some();
+    let unused_conditions =
+        measured && (sample.conditions.is_some() || sample.model != 0 || sample.hill.is_some());
     let conditions_path = path.field("conditions");
-    let mut conditions = reader.conditions(sample.conditions.as_ref(), &conditions_path);
-    let model = choose_model(reader, sample.model, sample.hill.as_ref(), path);
+    let model = if measured {
+        crate::physiology::model::DEFAULT_MODEL
+    } else {
+        choose_model(reader, sample.model, sample.hill.as_ref(), path)
+    };
+    let mut conditions = if measured {
+        crate::physiology::conditions::Conditions::default()
+    } else {
+        reader.conditions(sample.conditions.as_ref(), &conditions_path, &model)
+    };
     // One COHb and one MetHb per sample: the sample's own field, else the
     // conditions'; both set and different is refused.
     for (own, from_conditions, name) in [
@@ -173,7 +189,26 @@ fn read_sample(
             methb_fraction: conditions.methb_fraction,
         },
         calculated,
+        unused_conditions,
     })
+}
+
+fn unused_conditions_warning(path: &str) -> Warning {
+    warning(
+        WarningCode::ConditionNotModelled,
+        format!("{path}.conditions"),
+        "conditions and model are used only to calculate a missing saturation; with a measured saturation they were not used",
+    )
+}
+
+/// The warnings a sample read from `path` draws.
+fn sample_warnings(sample: &ReadSample, path: &str, out: &mut Vec<Warning>) {
+    if sample.calculated {
+        out.push(calculated_warning(&format!("{path}.saturation_fraction")));
+    }
+    if sample.unused_conditions {
+        out.push(unused_conditions_warning(path));
+    }
 }
 
 fn calculated_warning(path: &str) -> Warning {
@@ -213,8 +248,8 @@ pub fn compute_oxygen_content(
     request: &OxygenContentRequest,
 ) -> Result<OxygenContentResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let system = units::unit_system(request.unit_system);
-    let mut reader = RequestReader::new(system);
+    let mut reader = RequestReader::new(request.unit_system);
+    let system = reader.system();
     let hemoglobin = reader.required_quantity(
         request.hemoglobin.as_ref(),
         &root.field("hemoglobin"),
@@ -263,11 +298,21 @@ pub fn compute_oxygen_content(
     .map_err(|e| engine_refusal(&e))?;
 
     let mut found = Vec::new();
-    if arterial.calculated {
-        found.push(calculated_warning("arterial.saturation_fraction"));
+    sample_warnings(&arterial, "arterial", &mut found);
+    if let Some(venous) = &venous {
+        sample_warnings(venous, "venous", &mut found);
     }
-    if venous.as_ref().is_some_and(|v| v.calculated) {
-        found.push(calculated_warning("venous.saturation_fraction"));
+    let mut inputs_used = inputs_used;
+    if hufner.is_none() {
+        // The default factor depends on the saturation kind; record the one used.
+        inputs_used.push(InputUsed {
+            name: "hufner_factor_ml_per_g".to_owned(),
+            value: Some(Quantity {
+                value: transport.arterial.hufner_factor_ml_per_g,
+                unit: "mL/g".to_owned(),
+            }),
+            defaulted: true,
+        });
     }
     let content = |v: f64| units::from_engine(v, QuantityKind::OxygenContent, system);
     let flow = |v: f64| units::from_engine(v, QuantityKind::OxygenFlow, system);
@@ -293,8 +338,8 @@ pub fn compute_gas_exchange(
     request: &GasExchangeRequest,
 ) -> Result<GasExchangeResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
-    let system = units::unit_system(request.unit_system);
-    let mut reader = RequestReader::new(system);
+    let mut reader = RequestReader::new(request.unit_system);
+    let system = reader.system();
     let fio2 = reader.required_quantity(
         request.fio2.as_ref(),
         &root.field("fio2"),
@@ -331,7 +376,7 @@ pub fn compute_gas_exchange(
         reader.number(
             s,
             &root.field("spo2_fraction"),
-            &limits::SATURATION_MEASURED,
+            &limits::SPO2,
             QuantityKind::Fraction,
         )
     });
@@ -477,12 +522,8 @@ pub fn compute_gas_exchange(
         })
         .map_err(refuse)?;
         response.shunt_fraction = Some(shunt.shunt_fraction);
-        if arterial.calculated {
-            found.push(calculated_warning("arterial.saturation_fraction"));
-        }
-        if venous.calculated {
-            found.push(calculated_warning("venous.saturation_fraction"));
-        }
+        sample_warnings(arterial, "arterial", &mut found);
+        sample_warnings(venous, "venous", &mut found);
     }
     response.provenance = Some(provenance::for_method(
         &GAS_EXCHANGE_METHOD,

@@ -188,15 +188,6 @@ pub fn from_engine(value: f64, kind: QuantityKind, system: UnitSystem) -> Quanti
     }
 }
 
-/// The caller's unit system, with UNSPECIFIED meaning the default
-/// (conventional).
-pub fn unit_system(raw: i32) -> UnitSystem {
-    match UnitSystem::try_from(raw) {
-        Ok(UnitSystem::Si) => UnitSystem::Si,
-        _ => UnitSystem::Conventional,
-    }
-}
-
 #[cfg(test)]
 mod tests {
     use super::*;

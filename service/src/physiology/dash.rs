@@ -196,7 +196,6 @@ fn n_h(p: f64) -> (f64, f64) {
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct DashCurve {
     p50: f64,
-    ln_p50: f64,
 }
 
 impl Dash2016 {
@@ -204,17 +203,14 @@ impl Dash2016 {
     pub(crate) fn at(&self, conditions: &Conditions) -> Result<DashCurve, PhysiologyError> {
         conditions.validate()?;
         let p50 = p50_unchecked(conditions)?;
-        Ok(DashCurve {
-            p50,
-            ln_p50: p50.ln(),
-        })
+        Ok(DashCurve { p50 })
     }
 }
 
 impl Curve for DashCurve {
     #[inline]
     fn logit(&self, po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-        Ok(n_h(po2_mmhg).0 * (po2_mmhg.ln() - self.ln_p50))
+        Ok(n_h(po2_mmhg).0 * (po2_mmhg / self.p50).ln())
     }
     #[inline]
     fn slope(&self, po2_mmhg: f64) -> Result<f64, PhysiologyError> {
@@ -223,7 +219,7 @@ impl Curve for DashCurve {
     #[inline]
     fn logit_and_slope(&self, po2_mmhg: f64) -> Result<(f64, f64), PhysiologyError> {
         let (n, dn) = n_h(po2_mmhg);
-        let l = po2_mmhg.ln() - self.ln_p50;
+        let l = (po2_mmhg / self.p50).ln();
         Ok((n * l, n + l * po2_mmhg * dn))
     }
     #[inline]
@@ -234,7 +230,7 @@ impl Curve for DashCurve {
     }
     fn tension(&self, saturation: f64) -> Result<f64, PhysiologyError> {
         // Start from the Hill inverse with the mid-curve coefficient at P50.
-        let guess = (self.ln_p50 + super::model::logit_of(saturation) / n_h(self.p50).0).exp();
+        let guess = self.p50 * (super::model::logit_of(saturation) / n_h(self.p50).0).exp();
         invert_by_logit(self, saturation, guess, INFO.id)
     }
 }

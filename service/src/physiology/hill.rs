@@ -109,11 +109,10 @@ impl Hill {
         self.check()?;
         conditions.validate()?;
         let p50 = match self.shift {
-            HillShift::BloodScheme => self.p50_mmhg * 10f64.powf(shift_log10(conditions)),
+            HillShift::BloodScheme => self.p50_mmhg * (LN_10 * shift_log10(conditions)).exp(),
             HillShift::None => self.p50_mmhg,
         };
         Ok(HillCurve {
-            ln_p50: p50.ln(),
             p50,
             n: self.n,
             honours_cohb: self.shift == HillShift::BloodScheme,
@@ -133,11 +132,21 @@ impl Hill {
 /// (Kelman GR, *J Appl Physiol* 1966;21(4):1375–1376; Siggaard-Andersen O et al.,
 /// *Clin Chem* 1984;30(10):1646–1651).
 pub fn shift_log10(conditions: &Conditions) -> f64 {
-    kelman::BOHR_LOG10_PER_PH * (STANDARD_PH - conditions.ph())
-        + kelman::CO2_LOG10_PER_LOG10_PCO2 * (conditions.pco2_mmhg() / STANDARD_PCO2_MMHG).log10()
-        + kelman::TEMPERATURE_LOG10_PER_CELSIUS
-            * (conditions.temperature_celsius() - STANDARD_TEMPERATURE_CELSIUS)
-        + DPG_LN_PER_MMOL_PER_L / LN_10 * (conditions.dpg_mmol_per_l() - STANDARD_DPG_MMOL_PER_L)
+    // Only the given terms are evaluated (an absent term is exactly zero).
+    let mut shift = 0.0;
+    if let Some(ph) = conditions.ph {
+        shift += kelman::BOHR_LOG10_PER_PH * (STANDARD_PH - ph);
+    }
+    if let Some(pco2) = conditions.pco2_mmhg {
+        shift += kelman::CO2_LOG10_PER_LOG10_PCO2 * (pco2 / STANDARD_PCO2_MMHG).log10();
+    }
+    if let Some(t) = conditions.temperature_celsius {
+        shift += kelman::TEMPERATURE_LOG10_PER_CELSIUS * (t - STANDARD_TEMPERATURE_CELSIUS);
+    }
+    if let Some(dpg) = conditions.dpg_mmol_per_l {
+        shift += DPG_LN_PER_MMOL_PER_L / LN_10 * (dpg - STANDARD_DPG_MMOL_PER_L);
+    }
+    shift
 }
 
 /// Saturation from the Hill equation.
@@ -190,7 +199,6 @@ pub fn hill_tension_mmhg(saturation: f64, p50_mmhg: f64, n: f64) -> Result<f64, 
 #[derive(Debug, Clone, Copy)]
 pub(crate) struct HillCurve {
     p50: f64,
-    ln_p50: f64,
     n: f64,
     honours_cohb: bool,
 }
@@ -198,7 +206,7 @@ pub(crate) struct HillCurve {
 impl Curve for HillCurve {
     #[inline]
     fn logit(&self, po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-        Ok(self.n * (po2_mmhg.ln() - self.ln_p50))
+        Ok(self.n * (po2_mmhg / self.p50).ln())
     }
     #[inline]
     fn slope(&self, _po2_mmhg: f64) -> Result<f64, PhysiologyError> {
@@ -211,7 +219,7 @@ impl Curve for HillCurve {
     }
     #[inline]
     fn tension(&self, saturation: f64) -> Result<f64, PhysiologyError> {
-        Ok((self.ln_p50 + logit_of(saturation) / self.n).exp())
+        Ok(self.p50 * (logit_of(saturation) / self.n).exp())
     }
     fn honours_cohb(&self) -> bool {
         self.honours_cohb

@@ -96,11 +96,22 @@ pub fn virtual_po2_factor(conditions: &Conditions) -> Result<f64, PhysiologyErro
 
 #[inline]
 fn virtual_factor(c: &Conditions) -> f64 {
-    let exponent = TEMPERATURE_LOG10_PER_CELSIUS
-        * (STANDARD_TEMPERATURE_CELSIUS - c.temperature_celsius())
-        + BOHR_LOG10_PER_PH * (c.ph() - STANDARD_PH)
-        + CO2_LOG10_PER_LOG10_PCO2 * (STANDARD_PCO2_MMHG / c.pco2_mmhg()).log10();
-    10f64.powf(exponent)
+    // Only the given terms are evaluated (an absent term is exactly zero).
+    let mut exponent = 0.0;
+    if let Some(t) = c.temperature_celsius {
+        exponent += TEMPERATURE_LOG10_PER_CELSIUS * (STANDARD_TEMPERATURE_CELSIUS - t);
+    }
+    if let Some(ph) = c.ph {
+        exponent += BOHR_LOG10_PER_PH * (ph - STANDARD_PH);
+    }
+    if let Some(pco2) = c.pco2_mmhg {
+        exponent += CO2_LOG10_PER_LOG10_PCO2 * (STANDARD_PCO2_MMHG / pco2).log10();
+    }
+    if exponent == 0.0 {
+        1.0
+    } else {
+        (std::f64::consts::LN_10 * exponent).exp()
+    }
 }
 
 /// Kelman's saturation at a virtual PO2.

@@ -440,6 +440,16 @@ impl DissociationModel for Model {
 }
 
 impl Model {
+    /// The red-cell 2,3-DPG (mmol/L) the model assumes when none is given:
+    /// Dash 2016's own standard of 4.65 mmol/L, otherwise the service's
+    /// standard (see [`super::conditions::STANDARD_DPG_MMOL_PER_L`]).
+    pub fn standard_dpg_mmol_per_l(&self) -> f64 {
+        match self {
+            Model::Dash2016(_) => super::dash::DPG_STANDARD_MOL_PER_L * 1000.0,
+            _ => super::conditions::STANDARD_DPG_MMOL_PER_L,
+        }
+    }
+
     /// The model with the given catalog id, with default parameters (Hill: the
     /// adult preset); `None` for an unknown id.
     pub fn from_id(id: &str) -> Option<Model> {

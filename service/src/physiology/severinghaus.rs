@@ -208,13 +208,17 @@ pub fn tension_from_saturation_eq2_mmhg(saturation_fraction: f64) -> Result<f64,
 /// ```
 ///
 /// `PO2` in mmHg; the result in ln units per °C, from 0.071 at low PO2 to 0.013
-/// when Hb is fully saturated. The input must be finite and non-negative; the
-/// limits are returned for 0 (0.071) and +∞ (0.013); NaN gives NaN (callers validate).
+/// when Hb is fully saturated. Callers validate the input (this signature has no
+/// error channel): a negative PO2 gives the PO2 → 0 limit 0.071, +∞ the limit 0.013,
+/// and NaN gives NaN.
 ///
 /// Severinghaus JW. Simple, accurate equations for human blood O2 dissociation
 /// computations. *J Appl Physiol: Respir Environ Exerc Physiol* 1979;46(3):599–602.
 #[inline]
 pub fn po2_temperature_coefficient_ln_per_celsius(po2_mmhg: f64) -> f64 {
+    if po2_mmhg.is_nan() {
+        return f64::NAN;
+    }
     let p = po2_mmhg.max(0.0);
     let w = EQ3_SCALE * (p / EQ3_REFERENCE_MMHG).powf(EQ3_EXPONENT);
     EQ3_BOUND_COEFFICIENT_PER_CELSIUS / (w + 1.0) + EQ3_DISSOLVED_COEFFICIENT_PER_CELSIUS

@@ -3,7 +3,7 @@
 //! Each step takes the Newton step when it lands strictly inside the current
 //! bracket and otherwise bisects, so the bracket shrinks on every step that is
 //! not a converged Newton step; with at most
-//! [`SOLVER_MAX_ITERATIONS`](super::tolerance::SOLVER_MAX_ITERATIONS) steps it can
+//! [`SOLVER_MAX_ITERATIONS`] steps it can
 //! neither loop nor diverge.
 
 use super::error::PhysiologyError;
@@ -29,7 +29,7 @@ pub const SOLVER_STEP_TOLERANCE: f64 = INVERSE_RELATIVE_TOLERANCE * 1e-3;
 /// u_{k+1} = u_k - f(u_k)/f'(u_k)   if that lies strictly inside (lo, hi)
 /// u_{k+1} = (lo + hi)/2            otherwise
 /// after each evaluation: f(u_k) < 0 -> lo = u_k;  f(u_k) > 0 -> hi = u_k
-/// stop when |u_{k+1} - u_k| <= SOLVER_STEP_TOLERANCE or hi - lo <= SOLVER_STEP_TOLERANCE
+/// stop when |f(u_k)/f'(u_k)| <= SOLVER_STEP_TOLERANCE or hi - lo <= SOLVER_STEP_TOLERANCE
 /// ```
 ///
 /// Symbols: `u` the unknown (in this engine ln PO2 with PO2 in mmHg, or a saturation
@@ -69,11 +69,13 @@ where
             hi = u;
             hi_checked = true;
         }
-        let newton = u - value / slope;
-        let newton_ok = slope > 0.0 && newton.is_finite() && newton > lo && newton < hi;
-        if newton_ok && (newton - u).abs() <= SOLVER_STEP_TOLERANCE {
-            return Ok(newton);
+        let step = value / slope;
+        if slope > 0.0 && step.is_finite() && step.abs() <= SOLVER_STEP_TOLERANCE {
+            // Converged: the Newton step is below the tolerance (it may round to u).
+            return Ok((u - step).clamp(lo, hi));
         }
+        let newton = u - step;
+        let newton_ok = slope > 0.0 && newton.is_finite() && newton > lo && newton < hi;
         if hi - lo <= SOLVER_STEP_TOLERANCE {
             break;
         }
