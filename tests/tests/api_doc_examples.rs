@@ -391,24 +391,48 @@ async fn sample_curve_example_is_true() {
         model_of(&curve.provenance, "severinghaus-1979", "1.0.0", true);
         warnings_are(&curve.warnings, &[]);
     }
-    // The curve's conditions echo the set as sent (defaults not filled in).
-    assert_eq!(r.curves[0].conditions, Some(BloodConditions::default()));
-    assert_eq!(
-        r.curves[1].conditions,
-        sample_curve_example().condition_sets[1].clone().into()
+    // The curve's conditions come back with every default filled in.
+    let filled = |ph: f64, temperature: f64| BloodConditions {
+        ph: Some(ph),
+        pco2: q(40.0, "mm[Hg]"),
+        temperature: q(temperature, "Cel"),
+        dpg: q(5.0, "mmol/L"),
+        base_excess: q(0.0, "mmol/L"),
+        cohb: q(0.0, "1"),
+        methb: q(0.0, "1"),
+        hbf: q(0.0, "1"),
+    };
+    assert_eq!(r.curves[0].conditions, Some(filled(7.4, 37.0)));
+    assert_eq!(r.curves[1].conditions, Some(filled(7.2, 39.0)));
+    let shared = [
+        ("po2_min", "20", "mm[Hg]", false),
+        ("po2_max", "80", "mm[Hg]", false),
+        ("point_count", "4", "1", false),
+    ];
+    let mut first = shared.to_vec();
+    let first_defaults = standard_defaults("condition_sets[0].");
+    first.extend(
+        first_defaults
+            .iter()
+            .map(|(n, v, u)| (n.as_str(), *v, *u, true)),
     );
-    let second = &r.curves[1].provenance.as_ref().unwrap().inputs_used;
-    let names: Vec<&str> = second.iter().take(5).map(|i| i.name.as_str()).collect();
-    assert_eq!(
-        names,
-        [
-            "po2_min",
-            "po2_max",
-            "point_count",
-            "condition_sets[1].ph",
-            "condition_sets[1].pco2"
-        ]
+    inputs_used(&r.curves[0].provenance, &first);
+    // Explicit inputs first (shared, then the set's own), then defaulted ones.
+    let mut second = shared.to_vec();
+    second.extend([
+        ("condition_sets[1].ph", "7.2", "[pH]", false),
+        ("condition_sets[1].temperature", "39", "Cel", false),
+    ]);
+    let second_defaults: Vec<_> = standard_defaults("condition_sets[1].")
+        .into_iter()
+        .filter(|(n, _, _)| !n.ends_with(".ph") && !n.ends_with(".temperature"))
+        .collect();
+    second.extend(
+        second_defaults
+            .iter()
+            .map(|(n, v, u)| (n.as_str(), *v, *u, true)),
     );
+    inputs_used(&r.curves[1].provenance, &second);
     server.stop().await;
 }
 
@@ -480,6 +504,22 @@ async fn estimate_p50_example_is_true() {
         ]
     );
     warnings_are(&r.warnings, &[]);
+
+    // API.md 7.5 notes: a pair outside the model's validated range computes,
+    // with a warning on that field.
+    let mut outside = estimate_p50_example();
+    outside.pairs[0].conditions.as_mut().unwrap().ph = Some(7.9);
+    let o = dissociation(&server)
+        .await
+        .estimate_p50(outside)
+        .await
+        .expect("computes")
+        .into_inner();
+    model_of(&o.provenance, "severinghaus-1979", "1.0.0", false);
+    warnings_are(
+        &o.warnings,
+        &[(WarningCode::OutsideValidatedRange, "pairs[0].conditions.ph")],
+    );
     server.stop().await;
 }
 
@@ -502,8 +542,8 @@ async fn correct_for_temperature_example_is_true() {
             ("ph", "7.32", "[pH]", false),
             ("pco2", "44", "mm[Hg]", false),
             ("po2", "95", "mm[Hg]", false),
-            ("measured_temperature", "37", "Cel", true),
             ("target_temperature", "33", "Cel", false),
+            ("measured_temperature", "37", "Cel", true),
         ],
     );
     warnings_are(&r.warnings, &[]);
@@ -538,8 +578,9 @@ async fn batch_saturation_from_tension_example_is_true() {
         panic!("item 1 refused: {:?}", r.results[1]);
     };
     assert_eq!(status.code, 3);
-    let po2_unit = "po2.unit has a unit code this field does not accept (UCUM writes it \
-`mm[Hg]`); accepted UCUM codes (case-sensitive): mm[Hg], kPa";
+    // The description, and so the message, carries the item's prefix too.
+    let po2_unit = "requests[1].po2.unit has a unit code this field does not accept (UCUM \
+writes it `mm[Hg]`); accepted UCUM codes (case-sensitive): mm[Hg], kPa";
     assert_eq!(status.message, po2_unit);
     let (violations, info) = details(&status.details);
     assert_eq!(
@@ -587,14 +628,21 @@ async fn batch_tension_from_saturation_example_is_true() {
         panic!("item 1 refused: {:?}", r.results[1]);
     };
     assert_eq!(status.code, 3);
+    let saturation = "requests[1].saturation_fraction must lie in (0, 1): PO2 is zero at \
+saturation 0 and infinite at 1, so the inverse is defined only strictly between them";
+    assert_eq!(status.message, saturation);
     let (violations, info) = details(&status.details);
-    let fields: Vec<(&str, &str)> = violations
+    let violations: Vec<(&str, &str, &str)> = violations
         .iter()
-        .map(|(f, r, _)| (f.as_str(), r.as_str()))
+        .map(|(f, r, d)| (f.as_str(), r.as_str(), d.as_str()))
         .collect();
     assert_eq!(
-        fields,
-        [("requests[1].saturation_fraction", "SATURATION_OUT_OF_RANGE")]
+        violations,
+        [(
+            "requests[1].saturation_fraction",
+            "SATURATION_OUT_OF_RANGE",
+            saturation
+        )]
     );
     assert_eq!(info.reason, "SATURATION_OUT_OF_RANGE");
     metadata(
@@ -627,25 +675,46 @@ async fn oxygen_content_example_is_true() {
     quantity(&r.delivery, "666.97", "mL/min");
     quantity(&r.consumption, "192.39", "mL/min");
     model_of(&r.provenance, "", "1", true);
-    let used = &r.provenance.as_ref().unwrap().inputs_used;
-    let given: Vec<&str> = used
-        .iter()
-        .filter(|i| !i.defaulted)
-        .map(|i| i.name.as_str())
-        .collect();
-    assert_eq!(
-        given,
-        [
-            "hemoglobin",
-            "arterial.po2",
-            "arterial.saturation_fraction",
-            "venous.po2",
-            "venous.saturation_fraction",
-            "cardiac_output"
-        ]
-    );
-    assert_eq!(used.len(), 6 + 2 * 8);
+    // Measured saturations: the samples' conditions are not read, and the
+    // Hüfner factor used is recorded.
+    let expected_inputs = [
+        ("hemoglobin", "11.2", "g/dL", false),
+        ("arterial.po2", "78", "mm[Hg]", false),
+        ("arterial.saturation_fraction", "0.95", "1", false),
+        ("venous.po2", "36", "mm[Hg]", false),
+        ("venous.saturation_fraction", "0.68", "1", false),
+        ("cardiac_output", "4.6", "L/min", false),
+        ("hufner_factor_ml_per_g", "1.34", "mL/g", true),
+    ];
+    inputs_used(&r.provenance, &expected_inputs);
     warnings_are(&r.warnings, &[]);
+
+    // The same request with conditions beside the measured arterial
+    // saturation: same result, same inputs, one warning.
+    let mut with_conditions = oxygen_content_example();
+    with_conditions.arterial.as_mut().unwrap().conditions = Some(BloodConditions {
+        ph: Some(7.31),
+        temperature: q(38.5, "Cel"),
+        ..Default::default()
+    });
+    let w = OxygenTransportServiceClient::new(server.channel().await)
+        .oxygen_content(with_conditions)
+        .await
+        .expect("computes")
+        .into_inner();
+    assert_eq!(w.arterial_content, r.arterial_content);
+    assert_eq!(w.venous_content, r.venous_content);
+    assert_eq!(w.consumption, r.consumption);
+    inputs_used(&w.provenance, &expected_inputs);
+    warnings_are(
+        &w.warnings,
+        &[(WarningCode::ConditionNotModelled, "arterial.conditions")],
+    );
+    assert_eq!(
+        w.warnings[0].message,
+        "conditions and model are used only to calculate a missing saturation; with a \
+measured saturation they were not used"
+    );
     server.stop().await;
 }
 
@@ -671,12 +740,12 @@ async fn gas_exchange_example_is_true() {
         &r.provenance,
         &[
             ("fio2", "0.4", "1", false),
-            ("barometric_pressure", "760", "mm[Hg]", true),
             ("paco2", "38", "mm[Hg]", false),
             ("pao2", "72", "mm[Hg]", false),
-            ("respiratory_quotient", "0.8", "1", true),
             ("spo2_fraction", "0.93", "1", false),
             ("mean_airway_pressure", "14", "cm[H2O]", false),
+            ("barometric_pressure", "760", "mm[Hg]", true),
+            ("respiratory_quotient", "0.8", "1", true),
             ("body_temperature", "37", "Cel", true),
         ],
     );
@@ -850,7 +919,7 @@ model. Pass every warning on with the value it concerns."
                 "pressure",
                 0.0,
                 false,
-                1e7,
+                7600.0,
                 true,
                 "mm[Hg]",
                 "PRESSURE_OUT_OF_RANGE"
@@ -859,7 +928,7 @@ model. Pass every warning on with the value it concerns."
                 "barometric_pressure",
                 150.0,
                 true,
-                1e7,
+                7600.0,
                 true,
                 "mm[Hg]",
                 "BAROMETRIC_PRESSURE_OUT_OF_RANGE"
@@ -886,6 +955,15 @@ model. Pass every warning on with the value it concerns."
                 "saturation_measured",
                 0.0,
                 true,
+                1.0,
+                true,
+                "1",
+                "SATURATION_OUT_OF_RANGE"
+            ),
+            (
+                "spo2",
+                0.0,
+                false,
                 1.0,
                 true,
                 "1",
@@ -1004,6 +1082,146 @@ model. Pass every warning on with the value it concerns."
             ),
         ]
     );
+    // The fields column of that table.
+    let fields: Vec<(&str, Vec<&str>)> = r
+        .input_limits
+        .iter()
+        .map(|l| {
+            (
+                l.input.as_str(),
+                l.fields.iter().map(String::as_str).collect(),
+            )
+        })
+        .collect();
+    let conditions_paths = |name: &str, samples: bool| {
+        let mut paths = vec![
+            format!("conditions.{name}"),
+            format!("condition_sets[].{name}"),
+            format!("pairs[].conditions.{name}"),
+        ];
+        if samples {
+            paths.push(format!("arterial.conditions.{name}"));
+            paths.push(format!("venous.conditions.{name}"));
+        }
+        paths
+    };
+    let mut ph = conditions_paths("ph", true);
+    ph.push("ph".to_owned());
+    let mut pressure = vec!["po2".to_owned(), "pco2".to_owned()];
+    pressure.extend(conditions_paths("pco2", true));
+    pressure.extend(
+        [
+            "pao2",
+            "paco2",
+            "po2_min",
+            "po2_max",
+            "pairs[].po2",
+            "arterial.po2",
+            "venous.po2",
+            "hill.p50",
+        ]
+        .map(str::to_owned),
+    );
+    let mut temperature = conditions_paths("temperature", true);
+    temperature.extend(
+        [
+            "measured_temperature",
+            "target_temperature",
+            "body_temperature",
+        ]
+        .map(str::to_owned),
+    );
+    let mut dyshemoglobin = Vec::new();
+    for path in [
+        "conditions.",
+        "condition_sets[].",
+        "pairs[].conditions.",
+        "arterial.",
+        "venous.",
+    ] {
+        dyshemoglobin.push(format!("{path}cohb"));
+        dyshemoglobin.push(format!("{path}methb"));
+    }
+    let owned = |v: &[&str]| v.iter().map(|s| (*s).to_owned()).collect::<Vec<String>>();
+    let expected_fields: Vec<(&str, Vec<String>)> = vec![
+        ("ph", ph),
+        ("pressure", pressure),
+        ("barometric_pressure", owned(&["barometric_pressure"])),
+        ("temperature", temperature),
+        (
+            "saturation_open",
+            owned(&["saturation_fraction", "pairs[].saturation_fraction"]),
+        ),
+        (
+            "saturation_measured",
+            owned(&["arterial.saturation_fraction", "venous.saturation_fraction"]),
+        ),
+        ("spo2", owned(&["spo2_fraction"])),
+        ("dyshemoglobin_fraction", dyshemoglobin),
+        ("hbf_fraction", conditions_paths("hbf", false)),
+        ("dpg", conditions_paths("dpg", false)),
+        ("base_excess", conditions_paths("base_excess", false)),
+        ("hemoglobin", owned(&["hemoglobin"])),
+        ("fio2", owned(&["fio2"])),
+        ("hill_n", owned(&["hill.n"])),
+        ("hufner_factor", owned(&["hufner_factor_ml_per_g"])),
+        ("cardiac_output", owned(&["cardiac_output"])),
+        ("respiratory_quotient", owned(&["respiratory_quotient"])),
+        ("mean_airway_pressure", owned(&["mean_airway_pressure"])),
+        ("curve_points", owned(&["point_count"])),
+        ("curve_condition_sets", owned(&["condition_sets"])),
+        ("measured_pairs", owned(&["pairs"])),
+        ("batch_items", owned(&["requests"])),
+    ];
+    let expected_fields: Vec<(&str, Vec<&str>)> = expected_fields
+        .iter()
+        .map(|(input, paths)| (*input, paths.iter().map(String::as_str).collect()))
+        .collect();
+    assert_eq!(fields, expected_fields);
+    server.stop().await;
+}
+
+/// Two statements of API.md sections 2 and 7.11: with MODEL_DASH_2016 a
+/// defaulted `conditions.dpg` reads 4.65 mmol/L (Dash's own standard), and an
+/// unknown `unit_system` is refused with UNKNOWN_ENUM_VALUE.
+#[tokio::test]
+async fn dash_default_dpg_and_unknown_unit_system_are_as_documented() {
+    let server = TestServer::start().await;
+    let mut client = dissociation(&server).await;
+    let r = client
+        .saturation_from_tension(SaturationFromTensionRequest {
+            po2: q(62.0, "mm[Hg]"),
+            model: Model::Dash2016 as i32,
+            ..Default::default()
+        })
+        .await
+        .expect("computes")
+        .into_inner();
+    let used = &r.provenance.as_ref().unwrap().inputs_used;
+    let dpg = used
+        .iter()
+        .find(|i| i.name == "conditions.dpg")
+        .expect("dpg listed");
+    assert!(dpg.defaulted);
+    quantity(&dpg.value, "4.65", "mmol/L");
+
+    let status = client
+        .saturation_from_tension(SaturationFromTensionRequest {
+            po2: q(62.0, "mm[Hg]"),
+            unit_system: 7,
+            ..Default::default()
+        })
+        .await
+        .expect_err("refused");
+    assert_eq!(status.code(), tonic::Code::InvalidArgument);
+    let rpc = pb::Status::decode(status.details()).expect("details decode");
+    let (violations, info) = details(&rpc.details);
+    let fields: Vec<(&str, &str)> = violations
+        .iter()
+        .map(|(f, r, _)| (f.as_str(), r.as_str()))
+        .collect();
+    assert_eq!(fields, [("unit_system", "UNKNOWN_ENUM_VALUE")]);
+    assert_eq!(info.reason, "UNKNOWN_ENUM_VALUE");
     server.stop().await;
 }
 
@@ -1016,7 +1234,7 @@ async fn refused_request_example_is_true() {
         .await
         .expect_err("refused");
     assert_eq!(status.code(), tonic::Code::InvalidArgument);
-    let po2 = "po2.value must lie in (0, 10000000] mm[Hg]: a partial pressure must be \
+    let po2 = "po2.value must lie in (0, 7600] mm[Hg]: a partial pressure must be \
 positive; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment";
     assert_eq!(
         status.message(),
@@ -1053,7 +1271,7 @@ writes it `Cel`); accepted UCUM codes (case-sensitive): Cel, [degF]",
         &[
             ("field", "po2.value"),
             ("max_inclusive", "true"),
-            ("max_mmhg", "10000000"),
+            ("max_mmhg", "7600"),
             ("min_inclusive", "false"),
             ("min_mmhg", "0"),
             ("violation_count", "3"),
