@@ -1119,6 +1119,8 @@ model. Pass every warning on with the value it concerns."
             "arterial.po2",
             "venous.po2",
             "hill.p50",
+            "arterial.hill.p50",
+            "venous.hill.p50",
         ]
         .map(str::to_owned),
     );
@@ -1136,6 +1138,8 @@ model. Pass every warning on with the value it concerns."
         "conditions.",
         "condition_sets[].",
         "pairs[].conditions.",
+        "arterial.conditions.",
+        "venous.conditions.",
         "arterial.",
         "venous.",
     ] {
@@ -1158,12 +1162,15 @@ model. Pass every warning on with the value it concerns."
         ),
         ("spo2", owned(&["spo2_fraction"])),
         ("dyshemoglobin_fraction", dyshemoglobin),
-        ("hbf_fraction", conditions_paths("hbf", false)),
-        ("dpg", conditions_paths("dpg", false)),
-        ("base_excess", conditions_paths("base_excess", false)),
+        ("hbf_fraction", conditions_paths("hbf", true)),
+        ("dpg", conditions_paths("dpg", true)),
+        ("base_excess", conditions_paths("base_excess", true)),
         ("hemoglobin", owned(&["hemoglobin"])),
         ("fio2", owned(&["fio2"])),
-        ("hill_n", owned(&["hill.n"])),
+        (
+            "hill_n",
+            owned(&["hill.n", "arterial.hill.n", "venous.hill.n"]),
+        ),
         ("hufner_factor", owned(&["hufner_factor_ml_per_g"])),
         ("cardiac_output", owned(&["cardiac_output"])),
         ("respiratory_quotient", owned(&["respiratory_quotient"])),

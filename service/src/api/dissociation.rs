@@ -286,8 +286,10 @@ pub fn compute_tension_from_saturation(
         &model,
         &conditions,
         &conditions_path,
+        // The PO2 found is the result, so its warning names the input that
+        // produced it.
         Some((Input::Po2, po2, &saturation_path)),
-        &mut Vec::new(),
+        &mut found,
     );
     if saturation > PLATEAU_SATURATION {
         found.push(warning(
@@ -402,8 +404,14 @@ pub fn compute_sample_curve(
                 _ => po2_min + (po2_max - po2_min) * t,
             };
             let saturation = model.saturation(po2, &conditions).map_err(|e| {
+                // The curve is monotone in PO2, so a refusal at a point belongs
+                // to the nearer end of the requested range.
                 let field = if e.input() == Input::Po2 {
-                    "po2_min.value".to_owned()
+                    if po2 < (po2_min * po2_max).sqrt() {
+                        "po2_min.value".to_owned()
+                    } else {
+                        "po2_max.value".to_owned()
+                    }
                 } else {
                     field_of(e.input(), &set_field)
                 };
@@ -418,17 +426,19 @@ pub fn compute_sample_curve(
         warnings::unmodelled_conditions(&model, &conditions, &set_path, &mut found);
         let inside_conditions =
             warnings::validated_ranges(&model, &conditions, &set_path, None, &mut found);
-        let ends_inside = model.info().within_validated_range(Input::Po2, po2_min)
-            && model.info().within_validated_range(Input::Po2, po2_max);
-        if !ends_inside {
-            found.push(warning(
-                WarningCode::Extrapolated,
-                "po2_min".to_owned(),
-                format!(
-                    "part of the curve lies outside the PO2 range model {} was validated for",
-                    model.info().id
-                ),
-            ));
+        let mut ends_inside = true;
+        for (end, value) in [("po2_min", po2_min), ("po2_max", po2_max)] {
+            if !model.info().within_validated_range(Input::Po2, value) {
+                ends_inside = false;
+                found.push(warning(
+                    WarningCode::Extrapolated,
+                    end.to_owned(),
+                    format!(
+                        "this end of the curve lies outside the PO2 range model {} was validated for",
+                        model.info().id
+                    ),
+                ));
+            }
         }
         curves.push(Curve {
             conditions: Some(filled_conditions(&conditions, &model, system)),

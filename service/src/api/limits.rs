@@ -112,6 +112,8 @@ pub const PRESSURE: HardLimit = HardLimit {
         "arterial.po2",
         "venous.po2",
         "hill.p50",
+        "arterial.hill.p50",
+        "venous.hill.p50",
     ],
     unit: "mm[Hg]",
     unit_key: "mmhg",
@@ -217,6 +219,10 @@ pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
         "condition_sets[].methb",
         "pairs[].conditions.cohb",
         "pairs[].conditions.methb",
+        "arterial.conditions.cohb",
+        "arterial.conditions.methb",
+        "venous.conditions.cohb",
+        "venous.conditions.methb",
         "arterial.cohb",
         "arterial.methb",
         "venous.cohb",
@@ -239,6 +245,8 @@ pub const HBF_FRACTION: HardLimit = HardLimit {
         "conditions.hbf",
         "condition_sets[].hbf",
         "pairs[].conditions.hbf",
+        "arterial.conditions.hbf",
+        "venous.conditions.hbf",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -253,7 +261,13 @@ pub const HBF_FRACTION: HardLimit = HardLimit {
 /// Red-cell 2,3-DPG.
 pub const DPG: HardLimit = HardLimit {
     input: "dpg",
-    fields: &["conditions.dpg", "condition_sets[].dpg", "pairs[].conditions.dpg"],
+    fields: &[
+        "conditions.dpg",
+        "condition_sets[].dpg",
+        "pairs[].conditions.dpg",
+        "arterial.conditions.dpg",
+        "venous.conditions.dpg",
+    ],
     unit: "mmol/L",
     unit_key: "mmol_per_l",
     min: 0.0,
@@ -271,6 +285,8 @@ pub const BASE_EXCESS: HardLimit = HardLimit {
         "conditions.base_excess",
         "condition_sets[].base_excess",
         "pairs[].conditions.base_excess",
+        "arterial.conditions.base_excess",
+        "venous.conditions.base_excess",
     ],
     unit: "mmol/L",
     unit_key: "mmol_per_l",
@@ -314,7 +330,7 @@ pub const FIO2: HardLimit = HardLimit {
 /// Hill coefficient.
 pub const HILL_N: HardLimit = HardLimit {
     input: "hill_n",
-    fields: &["hill.n"],
+    fields: &["hill.n", "arterial.hill.n", "venous.hill.n"],
     unit: "1",
     unit_key: "dimensionless",
     min: 0.0,
@@ -338,7 +354,7 @@ pub const HUFNER_FACTOR: HardLimit = HardLimit {
     max_inclusive: true,
     error_reason: "HUFNER_FACTOR_OUT_OF_RANGE",
     reason:
-        "published Hüfner factors lie between 1.30 and 1.39 mL/g; the theoretical maximum is 1.39",
+        "measured Hüfner factors lie near 1.34-1.37 mL/g and the theoretical value is 1.39; outside 1.30-1.40 the value is an error",
 };
 
 /// Cardiac output.

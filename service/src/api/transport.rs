@@ -193,6 +193,19 @@ fn read_sample(
     })
 }
 
+/// The default Hüfner factor as used: it depends on the saturation kind, so
+/// provenance records the one the engine chose.
+fn default_hufner_used(factor_ml_per_g: f64) -> InputUsed {
+    InputUsed {
+        name: "hufner_factor_ml_per_g".to_owned(),
+        value: Some(Quantity {
+            value: factor_ml_per_g,
+            unit: "mL/g".to_owned(),
+        }),
+        defaulted: true,
+    }
+}
+
 fn unused_conditions_warning(path: &str) -> Warning {
     warning(
         WarningCode::ConditionNotModelled,
@@ -304,15 +317,9 @@ pub fn compute_oxygen_content(
     }
     let mut inputs_used = inputs_used;
     if hufner.is_none() {
-        // The default factor depends on the saturation kind; record the one used.
-        inputs_used.push(InputUsed {
-            name: "hufner_factor_ml_per_g".to_owned(),
-            value: Some(Quantity {
-                value: transport.arterial.hufner_factor_ml_per_g,
-                unit: "mL/g".to_owned(),
-            }),
-            defaulted: true,
-        });
+        inputs_used.push(default_hufner_used(
+            transport.arterial.hufner_factor_ml_per_g,
+        ));
     }
     let content = |v: f64| units::from_engine(v, QuantityKind::OxygenContent, system);
     let flow = |v: f64| units::from_engine(v, QuantityKind::OxygenFlow, system);
@@ -440,7 +447,7 @@ pub fn compute_gas_exchange(
     } else {
         None
     };
-    let inputs_used = reader.finish()?;
+    let mut inputs_used = reader.finish()?;
     let fio2 = fio2.unwrap_or(gas_exchange::FIO2_MIN_FRACTION);
     let refuse = |e: PhysiologyError| engine_refusal(&e);
     let system_pressure = |v: f64| units::from_engine(v, QuantityKind::Pressure, system);
@@ -522,6 +529,7 @@ pub fn compute_gas_exchange(
         })
         .map_err(refuse)?;
         response.shunt_fraction = Some(shunt.shunt_fraction);
+        inputs_used.push(default_hufner_used(shunt.arterial.hufner_factor_ml_per_g));
         sample_warnings(arterial, "arterial", &mut found);
         sample_warnings(venous, "venous", &mut found);
     }
