@@ -85,7 +85,13 @@ async fn main() -> Result<(), Box<dyn Error>> {
         .await?;
 
     let mut writer = csv::Writer::from_writer(output);
-    writer.write_record(["order_id", "saturation_fraction", "p50_mmhg", "warnings", "error"])?;
+    writer.write_record([
+        "order_id",
+        "saturation_fraction",
+        "p50_mmhg",
+        "warnings",
+        "error",
+    ])?;
     for chunk in orders.chunks(CHUNK) {
         let requests = chunk.iter().map(|o| o.request.clone()).collect();
         let results = client.batch_saturation_from_tension(requests).await?;

@@ -20,14 +20,14 @@ pub(crate) enum Failure {
     /// The command line or an input file was unusable.
     Usage(String),
     /// The call failed.
-    Client(ClientError),
+    Client(Box<ClientError>),
     /// Something else (writing a file, a server that is not SERVING).
     Other(String),
 }
 
 impl From<ClientError> for Failure {
     fn from(error: ClientError) -> Self {
-        Failure::Client(error)
+        Failure::Client(Box::new(error))
     }
 }
 
@@ -44,7 +44,7 @@ impl Failure {
                 EXIT_FAILURE
             }
             Failure::Client(error) => {
-                match error {
+                match error.as_ref() {
                     ClientError::Status {
                         code,
                         message,

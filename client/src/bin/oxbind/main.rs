@@ -166,7 +166,7 @@ async fn connect(cli: &Cli) -> Result<OxbindClient, Failure> {
         oxbind_client::ClientError::InvalidEndpoint { .. } | oxbind_client::ClientError::Tls(_) => {
             usage(e)
         }
-        other => Failure::Client(other),
+        other => Failure::Client(Box::new(other)),
     })
 }
 
