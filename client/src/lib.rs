@@ -1,17 +1,52 @@
-//! Client for the Oxbind gRPC service.
+//! Typed async client for the Oxbind gRPC service.
 //!
-//! Re-exports the generated v1 messages and client stubs, and offers
-//! [`connect`] to open a channel to a server.
+//! - [`OxbindClient`], built with [`OxbindClient::builder`]: connect and
+//!   per-call timeouts, TLS with a CA bundle and an optional client
+//!   certificate (mutual TLS), retries of UNAVAILABLE only with exponential
+//!   backoff, jitter and a cap ([`RetryPolicy`]), and a user agent.
+//! - Typed quantities and conditions from [`oxbind_proto`]:
+//!   `Quantity::mm_hg(80.0)`, `Quantity::kpa(10.7)`, `Quantity::celsius(38.5)`,
+//!   and `BloodConditions::standard().with_ph(7.31)...`.
+//! - One error type, [`ClientError`], with the status code and each refused
+//!   field ([`FieldViolation`]).
+//! - [`json::to_json`] renders any message in the protobuf JSON mapping.
 //!
 //! ```no_run
-//! # async fn example() -> Result<(), oxbind_client::ConnectError> {
-//! let channel = oxbind_client::connect("http://127.0.0.1:50051").await?;
-//! let mut catalog = oxbind_client::v1::model_catalog_service_client::ModelCatalogServiceClient::new(channel);
-//! # let _ = &mut catalog;
+//! # async fn example() -> Result<(), oxbind_client::ClientError> {
+//! use oxbind_client::{OxbindClient, v1::{BloodConditions, Quantity}};
+//! let client = OxbindClient::connect("http://127.0.0.1:50051").await?;
+//! let conditions = BloodConditions::standard()
+//!     .with_ph(7.31)
+//!     .with_pco2(Quantity::mm_hg(48.0))
+//!     .with_temperature(Quantity::celsius(38.5));
+//! match client.saturation(Quantity::mm_hg(60.0), conditions).await {
+//!     Ok(answer) => println!("SO2 {:.3}", answer.saturation_fraction),
+//!     Err(error) if error.is_refusal() => {
+//!         for v in error.field_violations() {
+//!             eprintln!("{}: {}", v.field, v.description);
+//!         }
+//!     }
+//!     Err(error) => return Err(error),
+//! }
 //! # Ok(()) }
 //! ```
+//!
+//! Results support, and never replace, measured co-oximetry and the
+//! judgement of licensed clinicians.
 
-pub use oxbind_proto::{service_names, v1};
+mod client;
+mod error;
+pub mod json;
+mod retry;
+
+pub use client::{
+    ClientBuilder, ItemResult, OxbindClient, DEFAULT_CALL_TIMEOUT, DEFAULT_CONNECT_TIMEOUT,
+    DEFAULT_USER_AGENT,
+};
+pub use error::{code_name, ClientError, ErrorInfo, FieldViolation};
+pub use oxbind_proto::{service_names, ucum, v1};
+pub use retry::{RetryPolicy, MAX_ATTEMPTS_CAP};
+pub use tonic::Code;
 pub use tonic_health::pb as health;
 
 use tonic::transport::{Channel, Endpoint};
@@ -19,34 +54,21 @@ use tonic::transport::{Channel, Endpoint};
 /// The address `oxbind` talks to when none is given.
 pub const DEFAULT_SERVER: &str = "http://127.0.0.1:50051";
 
-/// Why a connection could not be opened.
-#[derive(Debug)]
-pub enum ConnectError {
-    /// The endpoint is not a valid URI.
-    InvalidEndpoint(String),
-    /// The server could not be reached.
-    Unreachable(tonic::transport::Error),
-}
+/// The error [`connect`] returns (kept for callers of the first release).
+pub type ConnectError = ClientError;
 
-impl std::fmt::Display for ConnectError {
-    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
-        match self {
-            ConnectError::InvalidEndpoint(e) => write!(f, "invalid server address: {e}"),
-            ConnectError::Unreachable(e) => write!(f, "server unreachable: {e}"),
-        }
-    }
-}
-
-impl std::error::Error for ConnectError {}
-
-/// Open a channel to the server at `endpoint` (for example
-/// `http://127.0.0.1:50051`).
-pub async fn connect(endpoint: impl Into<String>) -> Result<Channel, ConnectError> {
+/// Open a bare channel to the server at `endpoint` (for example
+/// `http://127.0.0.1:50051`), for use with the generated stubs directly.
+/// Most callers want [`OxbindClient`] instead.
+pub async fn connect(endpoint: impl Into<String>) -> Result<Channel, ClientError> {
     let endpoint: String = endpoint.into();
     Endpoint::from_shared(endpoint.clone())
-        .map_err(|e| ConnectError::InvalidEndpoint(format!("{endpoint}: {e}")))?
+        .map_err(|e| ClientError::InvalidEndpoint {
+            endpoint: endpoint.clone(),
+            reason: e.to_string(),
+        })?
         .tcp_nodelay(true)
         .connect()
         .await
-        .map_err(ConnectError::Unreachable)
+        .map_err(ClientError::Connect)
 }

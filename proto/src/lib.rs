@@ -11,6 +11,11 @@ pub mod v1 {
     tonic::include_proto!("oxbind.v1");
 }
 
+mod conditions;
+mod quantity;
+
+pub use quantity::ucum;
+
 /// The encoded `FileDescriptorSet` of the whole v1 contract (with its imports),
 /// for registration with server reflection.
 pub const FILE_DESCRIPTOR_SET: &[u8] =

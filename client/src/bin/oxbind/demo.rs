@@ -1,0 +1,173 @@
+//! `oxbind demo`: an invented scenario at a fictional hospital.
+//!
+//! Every patient, value and place here is invented for demonstration; none
+//! is a real person or a real record.
+
+use std::path::PathBuf;
+
+use clap::Args;
+use oxbind_client::v1::{
+    BloodConditions, ListModelsRequest, Model, Quantity, SampleCurveRequest,
+    SaturationFromTensionRequest, ShiftFactorsRequest,
+};
+
+use crate::{
+    commands::describe,
+    failure::Failure,
+    output::{self, Table},
+    plot::{self, Series},
+    Context,
+};
+
+/// The fictional hospital of the scenario.
+pub(crate) const HOSPITAL: &str = "Larchmere Valley Infirmary (fictional)";
+
+/// The cautions the demo prints before and after its cases.
+pub(crate) const CAUTION: &str = "Caution: invented patients at a fictional hospital. \
+Oxbind's results are decision support only: they support, and never replace, measured \
+co-oximetry and the judgement of licensed clinicians, and local laboratory policy decides \
+which values are reported.";
+
+/// Flags of `oxbind demo`.
+#[derive(Debug, Clone, Args)]
+pub(crate) struct DemoArgs {
+    /// Where to write the SVG of the cases' curves beside the standard one.
+    #[arg(long, value_name = "FILE", default_value = "oxbind-demo-curves.svg")]
+    pub(crate) svg: PathBuf,
+}
+
+/// One invented case.
+struct Case {
+    label: &'static str,
+    story: &'static str,
+    po2: Quantity,
+    conditions: BloodConditions,
+}
+
+fn cases() -> Vec<Case> {
+    vec![
+        Case {
+            label: "hypothermic after surgery",
+            story: "Recovery bay 3: 71-year-old after a long open abdominal operation, core temperature 33.2 Cel.",
+            po2: Quantity::mm_hg(92.0),
+            conditions: BloodConditions::standard()
+                .with_ph(7.35)
+                .with_base_excess(Quantity::mmol_per_l(-2.0))
+                .with_temperature(Quantity::celsius(33.2)),
+        },
+        Case {
+            label: "diabetic ketoacidosis",
+            story: "Emergency department: 19-year-old in diabetic ketoacidosis, deep rapid breathing.",
+            po2: Quantity::mm_hg(104.0),
+            conditions: BloodConditions::standard()
+                .with_ph(7.08)
+                .with_base_excess(Quantity::mmol_per_l(-21.0)),
+        },
+        Case {
+            label: "stored red-cell unit, low 2,3-DPG",
+            story: "Blood bank: a red-cell unit late in storage, 2,3-DPG depleted, warmed to 37 Cel.",
+            po2: Quantity::mm_hg(60.0),
+            conditions: BloodConditions::standard()
+                .with_ph(7.25)
+                .with_base_excess(Quantity::mmol_per_l(-4.0))
+                .with_dpg(Quantity::mmol_per_l(1.2)),
+        },
+        Case {
+            label: "smoke inhalation, raised COHb",
+            story: "Emergency department: 46-year-old rescued from a house fire, carboxyhaemoglobin 24 %.",
+            po2: Quantity::mm_hg(88.0),
+            conditions: BloodConditions::standard()
+                .with_ph(7.29)
+                .with_base_excess(Quantity::mmol_per_l(-6.0))
+                .with_cohb(Quantity::percent(24.0)),
+        },
+    ]
+}
+
+/// `oxbind demo`.
+pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
+    // The cases' conditions (pH, base excess, temperature, 2,3-DPG, COHb) are
+    // exactly the ones Siggaard-Andersen 1984 honours, so it is the demo's
+    // model unless --model names another.
+    let model = if ctx.model == 0 {
+        Model::SiggaardAndersen1984 as i32
+    } else {
+        ctx.model
+    };
+    println!("Oxbind demonstration: {HOSPITAL}\n{CAUTION}\n");
+    let catalog = ctx.client.list_models(ListModelsRequest {}).await?;
+    let cases = cases();
+    for (n, case) in cases.iter().enumerate() {
+        let shift = ctx
+            .client
+            .shift_factors(ShiftFactorsRequest {
+                conditions: Some(case.conditions.clone()),
+                model,
+                unit_system: ctx.unit_system,
+            })
+            .await?;
+        let saturation = ctx
+            .client
+            .saturation_from_tension(SaturationFromTensionRequest {
+                po2: Some(case.po2.clone()),
+                conditions: Some(case.conditions.clone()),
+                model,
+                hill: None,
+                unit_system: ctx.unit_system,
+            })
+            .await?;
+        println!("Case {}: {}\n  {}", n + 1, case.label, case.story);
+        let mut t = Table::new();
+        t.row("conditions", describe(&case.conditions))
+            .quantity("P50 at standard conditions", shift.p50_standard.as_ref())
+            .quantity("P50 at these conditions", shift.p50_at_conditions.as_ref())
+            .row(
+                "curve shift",
+                format!("{:+.3} log10 units", shift.log10_p50_shift),
+            )
+            .row(
+                format!("saturation at PO2 {}", output::quantity(&case.po2)),
+                output::saturation(saturation.saturation_fraction),
+            )
+            .provenance(saturation.provenance.as_ref(), &saturation.warnings);
+        for w in &shift.warnings {
+            if !saturation.warnings.contains(w) {
+                t.row("warning", output::warning(w));
+            }
+        }
+        t.print();
+        println!();
+    }
+
+    let mut sets = vec![BloodConditions::standard()];
+    sets.extend(cases.iter().map(|c| c.conditions.clone()));
+    let curves = ctx
+        .client
+        .sample_curve(SampleCurveRequest {
+            condition_sets: sets,
+            model,
+            unit_system: ctx.unit_system,
+            point_count: 121,
+            ..Default::default()
+        })
+        .await?;
+    let labels = std::iter::once("standard conditions").chain(cases.iter().map(|c| c.label));
+    let series: Vec<Series> = curves
+        .curves
+        .iter()
+        .zip(labels)
+        .map(|(c, l)| Series::from_curve(l, c))
+        .collect();
+    plot::write_svg(&a.svg, "Invented cases against the standard curve", &series)
+        .map_err(Failure::Other)?;
+    println!(
+        "Curves of the {} cases and the standard curve: {}",
+        cases.len(),
+        a.svg.display()
+    );
+    if !catalog.cautions.is_empty() {
+        println!("\nServer cautions: {}", catalog.cautions);
+    }
+    println!("\n{CAUTION}");
+    Ok(())
+}
