@@ -12,6 +12,8 @@ use oxbind_service::{
 async fn main() {
     let config = Config::from_env_and_args();
     let telemetry = telemetry::init(config.log_format, &config.log_filter);
+    // Install the signal handlers before anything can report "serving".
+    let shutdown = shutdown_signal();
 
     let listener = match tokio::net::TcpListener::bind(config.listen).await {
         Ok(listener) => listener,
@@ -31,7 +33,7 @@ async fn main() {
         None => None,
     };
 
-    let result = serve_on(listener, health_listener, config, shutdown_signal()).await;
+    let result = serve_on(listener, health_listener, config, shutdown).await;
     // Send the last spans and metrics before exiting.
     let _ = tokio::task::spawn_blocking(move || telemetry.shutdown()).await;
     match result {
