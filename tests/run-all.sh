@@ -1,7 +1,9 @@
 #!/usr/bin/env bash
 # Runs every check the project has, on a fresh machine with only the Rust
-# toolchain and Python 3: formatting, clippy, all Rust tests, and buf lint of
-# the contract. Python tools go into a virtual environment made here.
+# toolchain and Python 3: formatting, clippy, all Rust tests, buf lint of the
+# contract, buf breaking against the previous commit, and schema validation of
+# every Kubernetes manifest. Python tools go into a virtual environment made
+# here.
 set -euo pipefail
 
 root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
@@ -10,6 +12,10 @@ cd "$root"
 venv="${OXBIND_TEST_VENV:-$root/target/test-venv}"
 # Pinned versions of the Python-packaged tools.
 buf_bin_version="1.75.0"
+kubernetes_validate_version="1.37.0"
+# The Kubernetes version the manifests are validated against (native gRPC
+# probes are GA from 1.27).
+kubernetes_schema_version="1.30.0"
 
 step() { printf '\n==> %s\n' "$*"; }
 
@@ -18,7 +24,8 @@ if [ ! -x "$venv/bin/python" ]; then
     python3 -m venv "$venv"
 fi
 "$venv/bin/python" -m pip install --quiet --disable-pip-version-check \
-    "buf-bin==$buf_bin_version"
+    "buf-bin==$buf_bin_version" \
+    "kubernetes-validate==$kubernetes_validate_version"
 
 step "cargo fmt --check"
 cargo fmt --all -- --check
@@ -31,5 +38,26 @@ cargo test --workspace --locked
 
 step "buf lint and build (proto/)"
 (cd proto && "$venv/bin/buf" lint && "$venv/bin/buf" build)
+
+step "buf breaking (proto/ against the previous commit)"
+# A fresh clone may be shallow, and the first commit has no parent: skip with
+# a message rather than fail when there is no previous commit holding proto/.
+if git rev-parse --verify --quiet 'HEAD~1^{commit}' >/dev/null \
+    && git cat-file -e 'HEAD~1:proto/buf.yaml' 2>/dev/null; then
+    "$venv/bin/buf" breaking proto --against '.git#ref=HEAD~1,subdir=proto'
+else
+    echo "skipped: no previous commit with proto/ in this clone"
+fi
+
+step "Kubernetes manifests against the schemas of $kubernetes_schema_version"
+# kustomize itself is not installed; every plain object (the base and the
+# overlay's patches, which are full objects) is validated on its own.
+manifests=()
+while IFS= read -r file; do
+    manifests+=("$file")
+done < <(find deploy/kubernetes -name '*.yaml' ! -name 'kustomization.yaml' | sort)
+"$venv/bin/kubernetes-validate" --strict --quiet \
+    --kubernetes-version "$kubernetes_schema_version" "${manifests[@]}"
+echo "${#manifests[@]} manifests valid"
 
 step "all checks passed"

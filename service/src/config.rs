@@ -4,7 +4,7 @@
 //! Invalid configuration is refused before anything binds; the binary exits
 //! with [`EXIT_CONFIG_INVALID`] and a message that names the setting.
 
-use std::{net::SocketAddr, time::Duration};
+use std::{net::SocketAddr, path::PathBuf, time::Duration};
 
 use clap::{Parser, ValueEnum};
 
@@ -23,6 +23,39 @@ pub const DEFAULT_SHUTDOWN_GRACE: Duration = Duration::from_secs(10);
 /// Default largest number of items in one batch request.
 pub const DEFAULT_MAX_BATCH_ITEMS: usize = 10_000;
 
+/// Default largest request message accepted after decompression, in bytes
+/// (4 MiB, tonic's own default). A full batch of [`DEFAULT_MAX_BATCH_ITEMS`]
+/// items is well under it.
+pub const DEFAULT_MAX_DECODED_MESSAGE_BYTES: usize = 4 * 1024 * 1024;
+
+/// Default largest response message the server sends, in bytes (32 MiB: room
+/// for a full batch's results with their provenance).
+pub const DEFAULT_MAX_ENCODED_MESSAGE_BYTES: usize = 32 * 1024 * 1024;
+
+/// Default longest time a call may take; a shorter `grpc-timeout` from the
+/// caller wins.
+pub const DEFAULT_CALL_TIMEOUT: Duration = Duration::from_secs(10);
+
+/// Default largest number of concurrent HTTP/2 streams (calls) on one
+/// connection.
+pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 128;
+
+/// Default largest number of calls in progress across the whole server; calls
+/// past it are refused at once with RESOURCE_EXHAUSTED. Health checks are not
+/// counted.
+pub const DEFAULT_MAX_CONCURRENT_CALLS: usize = 64;
+
+/// Default largest number of open client connections on the main listener;
+/// further connections wait in the kernel's accept queue.
+pub const DEFAULT_MAX_CONNECTIONS: usize = 1024;
+
+/// Default interval between HTTP/2 keepalive pings on an idle connection.
+pub const DEFAULT_KEEPALIVE_INTERVAL: Duration = Duration::from_secs(30);
+
+/// Default time to wait for a keepalive ping's answer before closing the
+/// connection.
+pub const DEFAULT_KEEPALIVE_TIMEOUT: Duration = Duration::from_secs(10);
+
 /// Environment variable for [`Config::listen`].
 pub const ENV_LISTEN: &str = "OXBIND_LISTEN";
 /// Environment variable for [`Config::log_format`].
@@ -33,6 +66,36 @@ pub const ENV_LOG_FILTER: &str = "OXBIND_LOG_FILTER";
 pub const ENV_SHUTDOWN_GRACE: &str = "OXBIND_SHUTDOWN_GRACE";
 /// Environment variable for [`Config::max_batch_items`].
 pub const ENV_MAX_BATCH_ITEMS: &str = "OXBIND_MAX_BATCH_ITEMS";
+/// Environment variable for [`Config::tls_cert`].
+pub const ENV_TLS_CERT: &str = "OXBIND_TLS_CERT";
+/// Environment variable for [`Config::tls_key`].
+pub const ENV_TLS_KEY: &str = "OXBIND_TLS_KEY";
+/// Environment variable for [`Config::client_ca`].
+pub const ENV_CLIENT_CA: &str = "OXBIND_CLIENT_CA";
+/// Environment variable for [`Config::health_listen`].
+pub const ENV_HEALTH_LISTEN: &str = "OXBIND_HEALTH_LISTEN";
+/// Environment variable for [`Config::no_reflection`].
+pub const ENV_NO_REFLECTION: &str = "OXBIND_NO_REFLECTION";
+/// Environment variable for [`Config::max_decoded_message_bytes`].
+pub const ENV_MAX_DECODED_MESSAGE_BYTES: &str = "OXBIND_MAX_DECODED_MESSAGE_BYTES";
+/// Environment variable for [`Config::max_encoded_message_bytes`].
+pub const ENV_MAX_ENCODED_MESSAGE_BYTES: &str = "OXBIND_MAX_ENCODED_MESSAGE_BYTES";
+/// Environment variable for [`Config::call_timeout`].
+pub const ENV_CALL_TIMEOUT: &str = "OXBIND_CALL_TIMEOUT";
+/// Environment variable for [`Config::max_concurrent_streams`].
+pub const ENV_MAX_CONCURRENT_STREAMS: &str = "OXBIND_MAX_CONCURRENT_STREAMS";
+/// Environment variable for [`Config::max_concurrent_calls`].
+pub const ENV_MAX_CONCURRENT_CALLS: &str = "OXBIND_MAX_CONCURRENT_CALLS";
+/// Environment variable for [`Config::max_connections`].
+pub const ENV_MAX_CONNECTIONS: &str = "OXBIND_MAX_CONNECTIONS";
+/// Environment variable for [`Config::keepalive_interval`].
+pub const ENV_KEEPALIVE_INTERVAL: &str = "OXBIND_KEEPALIVE_INTERVAL";
+/// Environment variable for [`Config::keepalive_timeout`].
+pub const ENV_KEEPALIVE_TIMEOUT: &str = "OXBIND_KEEPALIVE_TIMEOUT";
+/// Environment variable for [`Config::grpc_web`].
+pub const ENV_GRPC_WEB: &str = "OXBIND_GRPC_WEB";
+/// Environment variable for [`Config::cors_allowed_origins`].
+pub const ENV_CORS_ALLOWED_ORIGINS: &str = "OXBIND_CORS_ALLOWED_ORIGINS";
 
 /// How log lines are written.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -73,6 +136,85 @@ pub struct Config {
     #[arg(long, env = ENV_MAX_BATCH_ITEMS, default_value_t = DEFAULT_MAX_BATCH_ITEMS,
           value_name = "COUNT", value_parser = parse_batch_limit)]
     pub max_batch_items: usize,
+
+    /// PEM certificate chain the server presents; turns on TLS (needs `--tls-key`).
+    #[arg(long, env = ENV_TLS_CERT, value_name = "FILE", requires = "tls_key")]
+    pub tls_cert: Option<PathBuf>,
+
+    /// PEM private key for `--tls-cert`.
+    #[arg(long, env = ENV_TLS_KEY, value_name = "FILE", requires = "tls_cert")]
+    pub tls_key: Option<PathBuf>,
+
+    /// PEM CA certificate(s); turns on mutual TLS: a client without a
+    /// certificate signed by one of them is refused during the handshake.
+    #[arg(long, env = ENV_CLIENT_CA, value_name = "FILE", requires = "tls_cert")]
+    pub client_ca: Option<PathBuf>,
+
+    /// Second, plaintext listener serving only `grpc.health.v1` (for
+    /// Kubernetes' gRPC probes, which do not speak TLS). Off when absent.
+    #[arg(long, env = ENV_HEALTH_LISTEN, value_name = "ADDR")]
+    pub health_listen: Option<SocketAddr>,
+
+    /// Do not serve gRPC server reflection on the main listener (it is never
+    /// served on the health listener).
+    #[arg(long, env = ENV_NO_REFLECTION)]
+    pub no_reflection: bool,
+
+    /// Largest request message accepted, in bytes; larger ones get
+    /// RESOURCE_EXHAUSTED.
+    #[arg(long, env = ENV_MAX_DECODED_MESSAGE_BYTES, value_name = "BYTES",
+          default_value_t = DEFAULT_MAX_DECODED_MESSAGE_BYTES, value_parser = parse_positive)]
+    pub max_decoded_message_bytes: usize,
+
+    /// Largest response message sent, in bytes; a larger one gets
+    /// RESOURCE_EXHAUSTED.
+    #[arg(long, env = ENV_MAX_ENCODED_MESSAGE_BYTES, value_name = "BYTES",
+          default_value_t = DEFAULT_MAX_ENCODED_MESSAGE_BYTES, value_parser = parse_positive)]
+    pub max_encoded_message_bytes: usize,
+
+    /// Longest time one call may take (a shorter `grpc-timeout` wins); past it
+    /// the call gets DEADLINE_EXCEEDED.
+    #[arg(long, env = ENV_CALL_TIMEOUT, default_value = "10s", value_name = "DURATION",
+          value_parser = parse_duration)]
+    pub call_timeout: Duration,
+
+    /// Largest number of concurrent calls (HTTP/2 streams) on one connection.
+    #[arg(long, env = ENV_MAX_CONCURRENT_STREAMS, value_name = "COUNT",
+          default_value_t = DEFAULT_MAX_CONCURRENT_STREAMS, value_parser = parse_positive_u32)]
+    pub max_concurrent_streams: u32,
+
+    /// Largest number of calls in progress on the whole server; past it calls
+    /// are refused at once with RESOURCE_EXHAUSTED. Health checks are exempt.
+    #[arg(long, env = ENV_MAX_CONCURRENT_CALLS, value_name = "COUNT",
+          default_value_t = DEFAULT_MAX_CONCURRENT_CALLS, value_parser = parse_positive)]
+    pub max_concurrent_calls: usize,
+
+    /// Largest number of open connections on the main listener; more wait in
+    /// the kernel's accept queue.
+    #[arg(long, env = ENV_MAX_CONNECTIONS, value_name = "COUNT",
+          default_value_t = DEFAULT_MAX_CONNECTIONS, value_parser = parse_positive)]
+    pub max_connections: usize,
+
+    /// Interval between HTTP/2 keepalive pings on a connection.
+    #[arg(long, env = ENV_KEEPALIVE_INTERVAL, default_value = "30s", value_name = "DURATION",
+          value_parser = parse_duration)]
+    pub keepalive_interval: Duration,
+
+    /// Time a keepalive ping may go unanswered before the connection is closed.
+    #[arg(long, env = ENV_KEEPALIVE_TIMEOUT, default_value = "10s", value_name = "DURATION",
+          value_parser = parse_duration)]
+    pub keepalive_timeout: Duration,
+
+    /// Also accept grpc-web (HTTP/1.1 and HTTP/2) for the unary calls, so a
+    /// browser can call the service.
+    #[arg(long, env = ENV_GRPC_WEB)]
+    pub grpc_web: bool,
+
+    /// Origins a browser may call from with grpc-web (comma-separated, e.g.
+    /// `https://dashboard.example.org`); none by default.
+    #[arg(long, env = ENV_CORS_ALLOWED_ORIGINS, value_name = "ORIGINS", value_delimiter = ',',
+          value_parser = parse_origin, requires = "grpc_web")]
+    pub cors_allowed_origins: Vec<String>,
 }
 
 impl Config {
@@ -82,7 +224,13 @@ impl Config {
     /// reason (naming the setting) and exits with [`EXIT_CONFIG_INVALID`].
     pub fn from_env_and_args() -> Self {
         match Self::try_parse() {
-            Ok(config) => config,
+            Ok(config) => match config.check_files() {
+                Ok(()) => config,
+                Err(reason) => {
+                    eprintln!("error: {reason}");
+                    std::process::exit(EXIT_CONFIG_INVALID);
+                }
+            },
             Err(error) => {
                 use clap::error::ErrorKind;
                 if matches!(
@@ -98,6 +246,26 @@ impl Config {
     }
 }
 
+impl Config {
+    /// Check that every file the configuration names can be read, naming the
+    /// flag of the first that cannot.
+    pub fn check_files(&self) -> Result<(), String> {
+        let files = [
+            ("--tls-cert", &self.tls_cert),
+            ("--tls-key", &self.tls_key),
+            ("--client-ca", &self.client_ca),
+        ];
+        for (flag, path) in files {
+            if let Some(path) = path {
+                std::fs::metadata(path).map_err(|e| {
+                    format!("{flag} {}: cannot read the file ({e})", path.display())
+                })?;
+            }
+        }
+        Ok(())
+    }
+}
+
 impl Default for Config {
     fn default() -> Self {
         Self {
@@ -108,6 +276,21 @@ impl Default for Config {
             log_filter: DEFAULT_LOG_FILTER.to_owned(),
             shutdown_grace: DEFAULT_SHUTDOWN_GRACE,
             max_batch_items: DEFAULT_MAX_BATCH_ITEMS,
+            tls_cert: None,
+            tls_key: None,
+            client_ca: None,
+            health_listen: None,
+            no_reflection: false,
+            max_decoded_message_bytes: DEFAULT_MAX_DECODED_MESSAGE_BYTES,
+            max_encoded_message_bytes: DEFAULT_MAX_ENCODED_MESSAGE_BYTES,
+            call_timeout: DEFAULT_CALL_TIMEOUT,
+            max_concurrent_streams: DEFAULT_MAX_CONCURRENT_STREAMS,
+            max_concurrent_calls: DEFAULT_MAX_CONCURRENT_CALLS,
+            max_connections: DEFAULT_MAX_CONNECTIONS,
+            keepalive_interval: DEFAULT_KEEPALIVE_INTERVAL,
+            keepalive_timeout: DEFAULT_KEEPALIVE_TIMEOUT,
+            grpc_web: false,
+            cors_allowed_origins: Vec::new(),
         }
     }
 }
@@ -132,6 +315,42 @@ fn parse_batch_limit(text: &str) -> Result<usize, String> {
     Ok(limit)
 }
 
+fn parse_positive(text: &str) -> Result<usize, String> {
+    match text.parse::<usize>() {
+        Ok(0) => Err("must be at least 1".to_owned()),
+        Ok(value) => Ok(value),
+        Err(e) => Err(format!("not a whole number ({e})")),
+    }
+}
+
+fn parse_positive_u32(text: &str) -> Result<u32, String> {
+    match text.parse::<u32>() {
+        Ok(0) => Err("must be at least 1".to_owned()),
+        Ok(value) => Ok(value),
+        Err(e) => Err(format!("not a whole number up to {} ({e})", u32::MAX)),
+    }
+}
+
+/// A CORS origin: `http://` or `https://`, a host, an optional port, no path.
+fn parse_origin(text: &str) -> Result<String, String> {
+    let rest = text
+        .strip_prefix("https://")
+        .or_else(|| text.strip_prefix("http://"))
+        .ok_or_else(|| {
+            format!("`{text}` is not an origin such as `https://dashboard.example.org`")
+        })?;
+    let valid = !rest.is_empty()
+        && rest
+            .chars()
+            .all(|c| c.is_ascii_alphanumeric() || matches!(c, '.' | '-' | ':' | '[' | ']'));
+    if !valid {
+        return Err(format!(
+            "`{text}` is not an origin (scheme, host and optional port, no path)"
+        ));
+    }
+    Ok(text.to_owned())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -144,6 +363,90 @@ mod tests {
         assert_eq!(parsed.shutdown_grace, DEFAULT_SHUTDOWN_GRACE);
         assert_eq!(parsed.max_batch_items, DEFAULT_MAX_BATCH_ITEMS);
         assert_eq!(parsed.log_format, LogFormat::Plain);
+        assert_eq!(parsed.call_timeout, DEFAULT_CALL_TIMEOUT);
+        assert_eq!(parsed.max_concurrent_calls, DEFAULT_MAX_CONCURRENT_CALLS);
+        assert_eq!(
+            parsed.max_concurrent_streams,
+            DEFAULT_MAX_CONCURRENT_STREAMS
+        );
+        assert_eq!(parsed.max_connections, DEFAULT_MAX_CONNECTIONS);
+        assert_eq!(parsed.keepalive_interval, DEFAULT_KEEPALIVE_INTERVAL);
+        assert_eq!(parsed.keepalive_timeout, DEFAULT_KEEPALIVE_TIMEOUT);
+        assert_eq!(
+            parsed.max_decoded_message_bytes,
+            DEFAULT_MAX_DECODED_MESSAGE_BYTES
+        );
+        assert_eq!(
+            parsed.max_encoded_message_bytes,
+            DEFAULT_MAX_ENCODED_MESSAGE_BYTES
+        );
+        assert_eq!(parsed.tls_cert, default.tls_cert);
+        assert!(!parsed.no_reflection && !parsed.grpc_web);
+        assert!(parsed.health_listen.is_none());
+    }
+
+    #[test]
+    fn a_tls_certificate_without_its_key_is_refused() {
+        let error =
+            Config::try_parse_from(["oxbind-server", "--tls-cert", "server.pem"]).unwrap_err();
+        assert!(error.to_string().contains("--tls-key"), "{error}");
+    }
+
+    #[test]
+    fn a_client_ca_without_tls_is_refused() {
+        let error = Config::try_parse_from(["oxbind-server", "--client-ca", "ca.pem"]).unwrap_err();
+        assert!(error.to_string().contains("--tls-cert"), "{error}");
+    }
+
+    #[test]
+    fn cors_origins_need_grpc_web_and_must_be_origins() {
+        let error = Config::try_parse_from([
+            "oxbind-server",
+            "--cors-allowed-origins",
+            "https://a.example",
+        ])
+        .unwrap_err();
+        assert!(error.to_string().contains("--grpc-web"), "{error}");
+        let error = Config::try_parse_from([
+            "oxbind-server",
+            "--grpc-web",
+            "--cors-allowed-origins",
+            "https://a.example/path",
+        ])
+        .unwrap_err();
+        assert!(error.to_string().contains("not an origin"), "{error}");
+        let parsed = Config::try_parse_from([
+            "oxbind-server",
+            "--grpc-web",
+            "--cors-allowed-origins",
+            "https://a.example,http://localhost:8080",
+        ])
+        .unwrap();
+        assert_eq!(
+            parsed.cors_allowed_origins,
+            ["https://a.example", "http://localhost:8080"]
+        );
+    }
+
+    #[test]
+    fn a_zero_call_limit_is_refused() {
+        let error =
+            Config::try_parse_from(["oxbind-server", "--max-concurrent-calls", "0"]).unwrap_err();
+        assert!(error.to_string().contains("at least 1"), "{error}");
+    }
+
+    #[test]
+    fn a_missing_certificate_file_is_named() {
+        let config = Config::try_parse_from([
+            "oxbind-server",
+            "--tls-cert",
+            "/nonexistent/server.pem",
+            "--tls-key",
+            "/nonexistent/server.key",
+        ])
+        .unwrap();
+        let reason = config.check_files().unwrap_err();
+        assert!(reason.contains("--tls-cert"), "{reason}");
     }
 
     #[test]

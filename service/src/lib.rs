@@ -6,21 +6,22 @@
 //!   exchange. No gRPC types.
 //! - [`api`]: one thin adapter per gRPC service: proto to validated domain
 //!   input, to physiology, and back.
-//! - [`server`], [`config`], [`telemetry`], [`shutdown`]: start-up, layers and
-//!   shutdown.
+//! - [`server`], [`config`], [`layers`], [`telemetry`], [`shutdown`]:
+//!   start-up, per-call layers, limits, telemetry and shutdown.
 //!
 //! Results are decision support only: measured co-oximetry and licensed
 //! clinicians decide, and local laboratory policy decides what is reported.
 
 pub mod api;
 pub mod config;
+pub mod layers;
 pub mod physiology;
 pub mod server;
 pub mod shutdown;
 pub mod telemetry;
 
 pub use config::Config;
-pub use server::{serve, ServeError};
+pub use server::{serve, serve_on, ServeError};
 
 /// The service's version, as reported in provenance.
 pub const SERVICE_VERSION: &str = env!("CARGO_PKG_VERSION");

@@ -15,13 +15,19 @@ use oxbind_proto::{
     FILE_DESCRIPTOR_SET,
 };
 use tokio::net::TcpListener;
-use tonic::transport::{server::TcpIncoming, Server};
+use tonic::transport::{server::TcpIncoming, Certificate, Identity, Server, ServerTlsConfig};
 use tonic_health::{server::HealthReporter, ServingStatus};
+use tower::util::option_layer;
 
 use crate::{
     api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
+    layers::{call::CallLayer, connections::limited_incoming, web},
 };
+
+/// How long the health listener may take to close after the main listener
+/// has drained.
+pub const HEALTH_LISTENER_STOP: Duration = Duration::from_secs(1);
 
 /// Why the server stopped with an error.
 #[derive(Debug)]
@@ -30,6 +36,10 @@ pub enum ServeError {
     Reflection(tonic_reflection::server::Error),
     /// The transport failed.
     Transport(tonic::transport::Error),
+    /// The TLS material could not be read or used.
+    Tls(String),
+    /// The health listener could not be bound.
+    HealthBind(std::io::Error),
 }
 
 impl std::fmt::Display for ServeError {
@@ -37,6 +47,8 @@ impl std::fmt::Display for ServeError {
         match self {
             ServeError::Reflection(e) => write!(f, "cannot build the reflection service: {e}"),
             ServeError::Transport(e) => write!(f, "transport error: {e}"),
+            ServeError::Tls(e) => write!(f, "cannot set up TLS: {e}"),
+            ServeError::HealthBind(e) => write!(f, "cannot bind the health listener: {e}"),
         }
     }
 }
@@ -53,7 +65,8 @@ pub const HEALTH_NAMES: [&str; 4] = [
 ];
 
 /// Serve the v1 services, health and reflection on `listener` until
-/// `shutdown` completes.
+/// `shutdown` completes; when `config.health_listen` is set, also bind it and
+/// serve plaintext health there.
 ///
 /// On shutdown every health status turns NOT_SERVING at once, the server stops
 /// accepting connections, and calls in flight get `config.shutdown_grace` to
@@ -62,33 +75,111 @@ pub async fn serve<F>(listener: TcpListener, config: Config, shutdown: F) -> Res
 where
     F: Future<Output = ()> + Send + 'static,
 {
-    let (reporter, health_service) = tonic_health::server::health_reporter();
-    let reflection = tonic_reflection::server::Builder::configure()
-        .register_encoded_file_descriptor_set(FILE_DESCRIPTOR_SET)
-        .register_encoded_file_descriptor_set(tonic_types::pb::FILE_DESCRIPTOR_SET)
-        .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
-        .build_v1()
-        .map_err(ServeError::Reflection)?;
+    let health = match config.health_listen {
+        Some(address) => Some(
+            TcpListener::bind(address)
+                .await
+                .map_err(ServeError::HealthBind)?,
+        ),
+        None => None,
+    };
+    serve_on(listener, health, config, shutdown).await
+}
 
-    let router = Server::builder()
-        .add_service(health_service)
-        .add_service(reflection)
-        .add_service(DissociationServiceServer::new(DissociationApi::new(
-            config.max_batch_items,
-        )))
-        .add_service(OxygenTransportServiceServer::new(TransportApi::new()))
-        .add_service(ModelCatalogServiceServer::new(CatalogApi::new(
-            config.max_batch_items,
-        )));
+/// Like [`serve`], with the health listener (if any) already bound, so tests
+/// can pass port 0 for both. `config.health_listen` is ignored.
+pub async fn serve_on<F>(
+    listener: TcpListener,
+    health_listener: Option<TcpListener>,
+    config: Config,
+    shutdown: F,
+) -> Result<(), ServeError>
+where
+    F: Future<Output = ()> + Send + 'static,
+{
+    let (reporter, health_service) = tonic_health::server::health_reporter();
+    let reflection = if config.no_reflection {
+        None
+    } else {
+        Some(
+            tonic_reflection::server::Builder::configure()
+                .register_encoded_file_descriptor_set(FILE_DESCRIPTOR_SET)
+                .register_encoded_file_descriptor_set(tonic_types::pb::FILE_DESCRIPTOR_SET)
+                .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
+                .build_v1()
+                .map_err(ServeError::Reflection)?,
+        )
+    };
+    let tls = tls_config(&config)?;
+
+    let mut builder = Server::builder()
+        .max_concurrent_streams(config.max_concurrent_streams)
+        .http2_keepalive_interval(Some(config.keepalive_interval))
+        .http2_keepalive_timeout(Some(config.keepalive_timeout))
+        .accept_http1(config.grpc_web);
+    if let Some(tls) = tls {
+        builder = builder
+            .tls_config(tls)
+            .map_err(|e| ServeError::Tls(e.to_string()))?;
+    }
+    let cors = config
+        .grpc_web
+        .then(|| web::cors_layer(&config.cors_allowed_origins));
+    let grpc_web = config.grpc_web.then(web::grpc_web_layer);
+    let decode = config.max_decoded_message_bytes;
+    let encode = config.max_encoded_message_bytes;
+
+    let router = builder
+        .layer(option_layer(cors))
+        .layer(option_layer(grpc_web))
+        .layer(CallLayer::new(
+            config.max_concurrent_calls,
+            config.call_timeout,
+        ))
+        .add_service(health_service.clone())
+        .add_optional_service(reflection)
+        .add_service(
+            DissociationServiceServer::new(DissociationApi::new(config.max_batch_items))
+                .max_decoding_message_size(decode)
+                .max_encoding_message_size(encode),
+        )
+        .add_service(
+            OxygenTransportServiceServer::new(TransportApi::new())
+                .max_decoding_message_size(decode)
+                .max_encoding_message_size(encode),
+        )
+        .add_service(
+            ModelCatalogServiceServer::new(CatalogApi::new(config.max_batch_items))
+                .max_decoding_message_size(decode)
+                .max_encoding_message_size(encode),
+        );
 
     set_all(&reporter, ServingStatus::Serving).await;
+
+    // The plaintext health listener: grpc.health.v1 only, no reflection, no
+    // TLS, no limits; it answers NOT_SERVING through the drain.
+    let (health_stop_tx, health_stop_rx) = tokio::sync::oneshot::channel::<()>();
+    let health_task = match health_listener {
+        Some(health_listener) => {
+            if let Ok(address) = health_listener.local_addr() {
+                tracing::info!(%address, "serving health");
+            }
+            let incoming = TcpIncoming::from(health_listener).with_nodelay(Some(true));
+            Some(tokio::spawn(
+                Server::builder()
+                    .add_service(health_service)
+                    .serve_with_incoming_shutdown(incoming, async move {
+                        let _ = health_stop_rx.await;
+                    }),
+            ))
+        }
+        None => None,
+    };
+
     if let Ok(address) = listener.local_addr() {
         tracing::info!(%address, "serving");
     }
-
-    // Without TCP_NODELAY every small call waits on Nagle and delayed ACK
-    // (about 40 ms); `serve_with_incoming` ignores `Server::tcp_nodelay`.
-    let incoming = TcpIncoming::from(listener).with_nodelay(Some(true));
+    let incoming = limited_incoming(listener, config.max_connections);
 
     let (drain_started_tx, drain_started_rx) = tokio::sync::oneshot::channel::<()>();
     let drain_reporter = reporter.clone();
@@ -101,14 +192,40 @@ where
 
     let server = router.serve_with_incoming_shutdown(incoming, stop_accepting);
     tokio::pin!(server);
-    tokio::select! {
-        result = &mut server => result.map_err(ServeError::Transport)?,
-        Ok(()) = drain_started_rx => {
-            bounded_drain(&mut server, config.shutdown_grace).await?;
+    let outcome = tokio::select! {
+        result = &mut server => result.map_err(ServeError::Transport),
+        Ok(()) = drain_started_rx => bounded_drain(&mut server, config.shutdown_grace).await,
+    };
+
+    if let Some(task) = health_task {
+        let _ = health_stop_tx.send(());
+        let abort = task.abort_handle();
+        match tokio::time::timeout(HEALTH_LISTENER_STOP, task).await {
+            Ok(Ok(Ok(()))) => {}
+            Ok(Ok(Err(error))) => tracing::warn!(%error, "health listener failed"),
+            Ok(Err(_)) => {}
+            Err(_) => abort.abort(),
         }
     }
+    outcome?;
     tracing::info!("stopped");
     Ok(())
+}
+
+/// The TLS configuration `config` asks for: none, TLS, or mutual TLS.
+fn tls_config(config: &Config) -> Result<Option<ServerTlsConfig>, ServeError> {
+    let (Some(cert), Some(key)) = (&config.tls_cert, &config.tls_key) else {
+        return Ok(None);
+    };
+    let read = |flag: &str, path: &std::path::Path| {
+        std::fs::read(path).map_err(|e| ServeError::Tls(format!("{flag} {}: {e}", path.display())))
+    };
+    let identity = Identity::from_pem(read("--tls-cert", cert)?, read("--tls-key", key)?);
+    let mut tls = ServerTlsConfig::new().identity(identity);
+    if let Some(ca) = &config.client_ca {
+        tls = tls.client_ca_root(Certificate::from_pem(read("--client-ca", ca)?));
+    }
+    Ok(Some(tls))
 }
 
 /// Let the graceful drain run for at most `grace`: tonic waits for every open

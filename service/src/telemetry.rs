@@ -1,23 +1,417 @@
-//! Log set-up: one subscriber for the process, plain or JSON, with an
-//! `EnvFilter`.
+//! Logs, traces and metrics: one subscriber for the process, plain or JSON,
+//! with an `EnvFilter`; OpenTelemetry traces and metrics exported by OTLP over
+//! gRPC when the standard `OTEL_*` variables name an endpoint.
 //!
-//! Patient values never reach logs at info level or above: the service logs
-//! methods, statuses and latencies, never request or response bodies.
+//! Patient values never reach logs at info level or above, nor any span or
+//! metric: the service records methods, statuses, latencies, request and trace
+//! ids, model ids, warning codes and field paths, never request or response
+//! bodies. Only the per-call server span (target [`CALL_SPAN_TARGET`]) goes to
+//! the trace exporter; events logged inside a call never do.
 
-use tracing_subscriber::{fmt, EnvFilter};
+use std::sync::{
+    atomic::{AtomicBool, Ordering},
+    OnceLock,
+};
+
+use opentelemetry::{
+    metrics::{Counter, Histogram},
+    trace::TracerProvider as _,
+    KeyValue,
+};
+use opentelemetry_sdk::{metrics::SdkMeterProvider, trace::SdkTracerProvider, Resource};
+use tracing_subscriber::{
+    filter::filter_fn, layer::SubscriberExt, util::SubscriberInitExt, EnvFilter, Layer, Registry,
+};
 
 use crate::config::LogFormat;
 
-/// Install the global tracing subscriber, writing to standard error.
+/// The `tracing` target of the one server span each call gets; the only spans
+/// exported as OpenTelemetry traces.
+pub const CALL_SPAN_TARGET: &str = "oxbind::call";
+
+/// The `tracing` target of the one log line each call gets.
+pub const CALL_LOG_TARGET: &str = "oxbind::access";
+
+/// `service.name` when `OTEL_SERVICE_NAME` does not set one.
+pub const DEFAULT_SERVICE_NAME: &str = "oxbind-server";
+
+/// Instrumentation scope name of the service's tracer and meter.
+pub const INSTRUMENTATION_SCOPE: &str = "oxbind";
+
+/// Histogram bucket boundaries for `rpc.server.call.duration`, in seconds: the
+/// boundaries the OpenTelemetry RPC semantic conventions advise.
+pub const DURATION_BUCKETS_S: [f64; 14] = [
+    0.005, 0.01, 0.025, 0.05, 0.075, 0.1, 0.25, 0.5, 0.75, 1.0, 2.5, 5.0, 7.5, 10.0,
+];
+
+/// Whether OpenTelemetry traces are exported (set once by [`init`]).
+static TRACES_EXPORTED: AtomicBool = AtomicBool::new(false);
+
+/// Whether [`init`] installed an OpenTelemetry trace layer, so per-call spans
+/// should join the caller's trace.
+pub fn traces_exported() -> bool {
+    TRACES_EXPORTED.load(Ordering::Relaxed)
+}
+
+/// The exporters [`init`] started; call [`Telemetry::shutdown`] before the
+/// process exits so the last spans and metrics are sent.
+#[derive(Debug, Default)]
+pub struct Telemetry {
+    tracer_provider: Option<SdkTracerProvider>,
+    meter_provider: Option<SdkMeterProvider>,
+}
+
+impl Telemetry {
+    /// Flush and stop the exporters. Blocks while the last batch is sent: call
+    /// it from a blocking thread (e.g. `tokio::task::spawn_blocking`).
+    pub fn shutdown(self) {
+        if let Some(provider) = self.tracer_provider {
+            if let Err(error) = provider.shutdown() {
+                tracing::warn!(%error, "trace exporter did not shut down cleanly");
+            }
+        }
+        if let Some(provider) = self.meter_provider {
+            if let Err(error) = provider.shutdown() {
+                tracing::warn!(%error, "metric exporter did not shut down cleanly");
+            }
+        }
+    }
+}
+
+/// What the `OTEL_*` environment asks for.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+struct ExportPlan {
+    traces: bool,
+    metrics: bool,
+}
+
+impl ExportPlan {
+    /// Read the plan from an environment lookup (`OTEL_SDK_DISABLED`, the
+    /// endpoint variables, and `OTEL_{TRACES,METRICS}_EXPORTER=none`).
+    fn from_env(var: impl Fn(&str) -> Option<String>) -> Self {
+        let set = |name: &str| var(name).is_some_and(|v| !v.trim().is_empty());
+        if var("OTEL_SDK_DISABLED").is_some_and(|v| v.trim().eq_ignore_ascii_case("true")) {
+            return Self {
+                traces: false,
+                metrics: false,
+            };
+        }
+        let not_none = |name: &str| var(name).is_none_or(|v| v.trim() != "none");
+        let any_endpoint = set("OTEL_EXPORTER_OTLP_ENDPOINT");
+        Self {
+            traces: (any_endpoint || set("OTEL_EXPORTER_OTLP_TRACES_ENDPOINT"))
+                && not_none("OTEL_TRACES_EXPORTER"),
+            metrics: (any_endpoint || set("OTEL_EXPORTER_OTLP_METRICS_ENDPOINT"))
+                && not_none("OTEL_METRICS_EXPORTER"),
+        }
+    }
+}
+
+/// Install the global tracing subscriber (writing to standard error) and,
+/// when the `OTEL_*` variables name an OTLP endpoint, the trace and metric
+/// exporters.
 ///
-/// Call once, from the binary. The filter has been validated by the config
-/// parser; should it still fail here, the default filter is used.
+/// Call once, from the binary, inside the Tokio runtime. The filter has been
+/// validated by the config parser; should it still fail here, the default
+/// filter is used. Exporter set-up failures are logged and leave that signal
+/// off; they never stop the service.
+pub fn init(format: LogFormat, filter: &str) -> Telemetry {
+    let plan = ExportPlan::from_env(|name| std::env::var(name).ok());
+    let resource = plan
+        .traces
+        .then(resource)
+        .or_else(|| plan.metrics.then(resource));
+
+    let mut problems = Vec::new();
+    let tracer_provider = match (&resource, plan.traces) {
+        (Some(resource), true) => match opentelemetry_otlp::SpanExporter::builder()
+            .with_tonic()
+            .build()
+        {
+            Ok(exporter) => Some(
+                SdkTracerProvider::builder()
+                    .with_batch_exporter(exporter)
+                    .with_resource(resource.clone())
+                    .build(),
+            ),
+            Err(error) => {
+                problems.push(format!("trace exporter: {error}"));
+                None
+            }
+        },
+        _ => None,
+    };
+    let meter_provider = match (&resource, plan.metrics) {
+        (Some(resource), true) => match opentelemetry_otlp::MetricExporter::builder()
+            .with_tonic()
+            .build()
+        {
+            Ok(exporter) => Some(
+                SdkMeterProvider::builder()
+                    .with_periodic_exporter(exporter)
+                    .with_resource(resource.clone())
+                    .build(),
+            ),
+            Err(error) => {
+                problems.push(format!("metric exporter: {error}"));
+                None
+            }
+        },
+        _ => None,
+    };
+
+    let filter = EnvFilter::try_new(filter)
+        .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
+    let fmt_layer: Box<dyn Layer<Registry> + Send + Sync> = match format {
+        LogFormat::Plain => tracing_subscriber::fmt::layer()
+            .with_writer(std::io::stderr)
+            .with_filter(filter)
+            .boxed(),
+        LogFormat::Json => tracing_subscriber::fmt::layer()
+            .json()
+            .flatten_event(true)
+            .with_writer(std::io::stderr)
+            .with_filter(filter)
+            .boxed(),
+    };
+    // Only the per-call span is exported: events (which might one day carry
+    // a value at debug level) and other spans stay out of the traces.
+    let otel_layer = tracer_provider.as_ref().map(|provider| {
+        tracing_opentelemetry::layer()
+            .with_tracer(provider.tracer(INSTRUMENTATION_SCOPE))
+            .with_location(false)
+            .with_threads(false)
+            .with_level(false)
+            .with_target(false)
+            .with_filter(filter_fn(|meta| {
+                meta.is_span() && meta.target() == CALL_SPAN_TARGET
+            }))
+    });
+    tracing_subscriber::registry()
+        .with(fmt_layer)
+        .with(otel_layer)
+        .init();
+
+    if let Some(provider) = &meter_provider {
+        opentelemetry::global::set_meter_provider(provider.clone());
+    }
+    TRACES_EXPORTED.store(tracer_provider.is_some(), Ordering::Relaxed);
+
+    for problem in problems {
+        tracing::error!(%problem, "cannot set up OpenTelemetry export; that signal is off");
+    }
+    match (tracer_provider.is_some(), meter_provider.is_some()) {
+        (false, false) => tracing::info!(
+            "no OTLP endpoint configured (OTEL_EXPORTER_OTLP_ENDPOINT); traces and metrics are not exported"
+        ),
+        (traces, metrics) => tracing::info!(traces, metrics, "exporting telemetry by OTLP/gRPC"),
+    }
+
+    Telemetry {
+        tracer_provider,
+        meter_provider,
+    }
+}
+
+/// Install only the log subscriber, as before OpenTelemetry export existed.
 pub fn init_tracing(format: LogFormat, filter: &str) {
     let filter = EnvFilter::try_new(filter)
         .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
-    let builder = fmt().with_env_filter(filter).with_writer(std::io::stderr);
+    let builder = tracing_subscriber::fmt()
+        .with_env_filter(filter)
+        .with_writer(std::io::stderr);
     match format {
         LogFormat::Plain => builder.init(),
         LogFormat::Json => builder.json().flatten_event(true).init(),
+    }
+}
+
+/// The service's resource: `OTEL_SERVICE_NAME` and `OTEL_RESOURCE_ATTRIBUTES`
+/// as the SDK reads them, `service.name` defaulting to
+/// [`DEFAULT_SERVICE_NAME`], and `service.version`.
+fn resource() -> Resource {
+    let builder = Resource::builder();
+    let builder = if std::env::var_os("OTEL_SERVICE_NAME").is_some() {
+        builder
+    } else {
+        builder.with_service_name(DEFAULT_SERVICE_NAME)
+    };
+    builder
+        .with_attribute(KeyValue::new("service.version", crate::SERVICE_VERSION))
+        .build()
+}
+
+/// The service's metric instruments, created once from the global meter (a
+/// no-op meter when metrics are not exported).
+pub(crate) struct Instruments {
+    /// `rpc.server.call.duration`, seconds.
+    pub(crate) call_duration: Histogram<f64>,
+    /// `oxbind.server.calls`: calls by method and status.
+    pub(crate) calls: Counter<u64>,
+    /// `oxbind.batch.items`: batch items computed.
+    pub(crate) batch_items: Counter<u64>,
+    /// `oxbind.warnings`: warnings returned, by code.
+    pub(crate) warnings: Counter<u64>,
+    /// `oxbind.refused_inputs`: refused inputs, by field path.
+    pub(crate) refused_inputs: Counter<u64>,
+}
+
+/// The instruments; created on first use, after [`init`] set the provider.
+pub(crate) fn instruments() -> &'static Instruments {
+    static INSTRUMENTS: OnceLock<Instruments> = OnceLock::new();
+    INSTRUMENTS.get_or_init(|| {
+        let meter = opentelemetry::global::meter(INSTRUMENTATION_SCOPE);
+        Instruments {
+            call_duration: meter
+                .f64_histogram("rpc.server.call.duration")
+                .with_unit("s")
+                .with_description("Duration of server calls, from request headers to response end")
+                .with_boundaries(DURATION_BUCKETS_S.to_vec())
+                .build(),
+            calls: meter
+                .u64_counter("oxbind.server.calls")
+                .with_unit("{call}")
+                .with_description("Server calls by method and status")
+                .build(),
+            batch_items: meter
+                .u64_counter("oxbind.batch.items")
+                .with_unit("{item}")
+                .with_description("Batch items computed, by method")
+                .build(),
+            warnings: meter
+                .u64_counter("oxbind.warnings")
+                .with_unit("{warning}")
+                .with_description("Warnings returned, by warning code")
+                .build(),
+            refused_inputs: meter
+                .u64_counter("oxbind.refused_inputs")
+                .with_unit("{input}")
+                .with_description("Inputs refused as invalid, by field path (never the value)")
+                .build(),
+        }
+    })
+}
+
+/// Count `items` batch items computed by `method` (the fully qualified gRPC
+/// method, e.g. `oxbind.v1.DissociationService/BatchSaturationFromTension`).
+///
+/// A hook for the API layer; cheap (one counter add).
+pub fn record_batch_items(method: &'static str, items: u64) {
+    instruments()
+        .batch_items
+        .add(items, &[KeyValue::new("rpc.method", method)]);
+}
+
+/// Count the warnings a call returns, by code (the proto enum names, e.g.
+/// `WARNING_CODE_OUTSIDE_VALIDATED_RANGE`), and put the codes on the current
+/// call's span (attribute `oxbind.warning_codes`, comma-separated).
+///
+/// A hook for the API layer; codes are fixed names, never values.
+pub fn record_warnings(codes: &[&'static str]) {
+    if codes.is_empty() {
+        return;
+    }
+    let instruments = instruments();
+    for code in codes {
+        instruments
+            .warnings
+            .add(1, &[KeyValue::new("oxbind.warning.code", *code)]);
+    }
+    tracing::Span::current().record("oxbind.warning_codes", codes.join(",").as_str());
+}
+
+/// Record the model a call used on the current call's span (attribute
+/// `oxbind.model_id`).
+///
+/// A hook for the API layer; the model id is a fixed catalog name, never a
+/// value.
+pub fn record_model(model_id: &'static str) {
+    tracing::Span::current().record("oxbind.model_id", model_id);
+}
+
+/// Count one refused input at `field_path`; list indices are dropped
+/// (`requests[3].po2` counts as `requests[].po2`) so the metric's cardinality
+/// stays bounded. The value is never recorded.
+pub fn record_refused_input(field_path: &str) {
+    instruments().refused_inputs.add(
+        1,
+        &[KeyValue::new("oxbind.field", without_indices(field_path))],
+    );
+}
+
+/// `field_path` with every list index removed: `a[12].b` becomes `a[].b`.
+pub fn without_indices(field_path: &str) -> String {
+    let mut out = String::with_capacity(field_path.len());
+    let mut in_index = false;
+    for c in field_path.chars() {
+        match c {
+            '[' => {
+                in_index = true;
+                out.push('[');
+            }
+            ']' => {
+                in_index = false;
+                out.push(']');
+            }
+            _ if in_index => {}
+            _ => out.push(c),
+        }
+    }
+    out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn env<'a>(pairs: &'a [(&'a str, &'a str)]) -> impl Fn(&str) -> Option<String> + 'a {
+        move |name| {
+            pairs
+                .iter()
+                .find(|(k, _)| *k == name)
+                .map(|(_, v)| (*v).to_owned())
+        }
+    }
+
+    #[test]
+    fn no_endpoint_exports_nothing() {
+        let plan = ExportPlan::from_env(env(&[]));
+        assert_eq!(
+            plan,
+            ExportPlan {
+                traces: false,
+                metrics: false
+            }
+        );
+    }
+
+    #[test]
+    fn the_common_endpoint_turns_on_both_signals_unless_disabled() {
+        let endpoint = ("OTEL_EXPORTER_OTLP_ENDPOINT", "http://collector:4317");
+        let plan = ExportPlan::from_env(env(&[endpoint]));
+        assert!(plan.traces && plan.metrics);
+        let plan = ExportPlan::from_env(env(&[endpoint, ("OTEL_SDK_DISABLED", "TRUE")]));
+        assert!(!plan.traces && !plan.metrics);
+        let plan = ExportPlan::from_env(env(&[endpoint, ("OTEL_METRICS_EXPORTER", "none")]));
+        assert!(plan.traces && !plan.metrics);
+    }
+
+    #[test]
+    fn a_signal_endpoint_turns_on_only_that_signal() {
+        let plan = ExportPlan::from_env(env(&[(
+            "OTEL_EXPORTER_OTLP_TRACES_ENDPOINT",
+            "http://collector:4317",
+        )]));
+        assert!(plan.traces && !plan.metrics);
+    }
+
+    #[test]
+    fn field_paths_lose_their_indices() {
+        assert_eq!(without_indices("requests[3].po2"), "requests[].po2");
+        assert_eq!(
+            without_indices("condition_sets[12].ph"),
+            "condition_sets[].ph"
+        );
+        assert_eq!(without_indices("po2"), "po2");
     }
 }

@@ -22,7 +22,7 @@ use super::{
     field_path::FieldPath,
     limits,
     model_choice::choose_model,
-    provenance,
+    observe, provenance,
     reader::RequestReader,
     status::{
         batch_refusal, InvalidRequest, Violation, REASON_BATCH_EMPTY, REASON_BATCH_TOO_LARGE,
@@ -86,48 +86,56 @@ impl DissociationService for DissociationApi {
         &self,
         request: Request<SaturationFromTensionRequest>,
     ) -> Result<Response<SaturationFromTensionResponse>, Status> {
-        Ok(Response::new(compute_saturation_from_tension(
-            request.get_ref(),
-        )?))
+        let response = compute_saturation_from_tension(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 
     async fn tension_from_saturation(
         &self,
         request: Request<TensionFromSaturationRequest>,
     ) -> Result<Response<TensionFromSaturationResponse>, Status> {
-        Ok(Response::new(compute_tension_from_saturation(
-            request.get_ref(),
-        )?))
+        let response = compute_tension_from_saturation(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 
     async fn sample_curve(
         &self,
         request: Request<SampleCurveRequest>,
     ) -> Result<Response<SampleCurveResponse>, Status> {
-        Ok(Response::new(compute_sample_curve(request.get_ref())?))
+        let response = compute_sample_curve(request.get_ref())?;
+        for curve in &response.curves {
+            observe::result(curve.provenance.as_ref(), &curve.warnings);
+        }
+        Ok(Response::new(response))
     }
 
     async fn shift_factors(
         &self,
         request: Request<ShiftFactorsRequest>,
     ) -> Result<Response<ShiftFactorsResponse>, Status> {
-        Ok(Response::new(compute_shift_factors(request.get_ref())?))
+        let response = compute_shift_factors(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 
     async fn estimate_p50(
         &self,
         request: Request<EstimateP50Request>,
     ) -> Result<Response<EstimateP50Response>, Status> {
-        Ok(Response::new(compute_estimate_p50(request.get_ref())?))
+        let response = compute_estimate_p50(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 
     async fn correct_for_temperature(
         &self,
         request: Request<CorrectForTemperatureRequest>,
     ) -> Result<Response<CorrectForTemperatureResponse>, Status> {
-        Ok(Response::new(compute_correct_for_temperature(
-            request.get_ref(),
-        )?))
+        let response = compute_correct_for_temperature(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 
     async fn batch_saturation_from_tension(
@@ -136,15 +144,21 @@ impl DissociationService for DissociationApi {
     ) -> Result<Response<BatchSaturationFromTensionResponse>, Status> {
         let items = &request.get_ref().requests;
         self.check_batch_size(items.len())?;
+        crate::telemetry::record_batch_items(
+            "oxbind.v1.DissociationService/BatchSaturationFromTension",
+            items.len() as u64,
+        );
         let results = items
             .iter()
             .enumerate()
             .map(|(index, item)| SaturationFromTensionResult {
                 result: Some(match compute_saturation_from_tension(item) {
                     Ok(response) => saturation_from_tension_result::Result::Response(response),
-                    Err(refusal) => saturation_from_tension_result::Result::Error(
-                        refusal.within_item("requests", index).to_rpc_status(),
-                    ),
+                    Err(refusal) => {
+                        let refusal = refusal.within_item("requests", index);
+                        observe::refused_item(&refusal);
+                        saturation_from_tension_result::Result::Error(refusal.to_rpc_status())
+                    }
                 }),
             })
             .collect();
@@ -159,15 +173,21 @@ impl DissociationService for DissociationApi {
     ) -> Result<Response<BatchTensionFromSaturationResponse>, Status> {
         let items = &request.get_ref().requests;
         self.check_batch_size(items.len())?;
+        crate::telemetry::record_batch_items(
+            "oxbind.v1.DissociationService/BatchTensionFromSaturation",
+            items.len() as u64,
+        );
         let results = items
             .iter()
             .enumerate()
             .map(|(index, item)| TensionFromSaturationResult {
                 result: Some(match compute_tension_from_saturation(item) {
                     Ok(response) => tension_from_saturation_result::Result::Response(response),
-                    Err(refusal) => tension_from_saturation_result::Result::Error(
-                        refusal.within_item("requests", index).to_rpc_status(),
-                    ),
+                    Err(refusal) => {
+                        let refusal = refusal.within_item("requests", index);
+                        observe::refused_item(&refusal);
+                        tension_from_saturation_result::Result::Error(refusal.to_rpc_status())
+                    }
                 }),
             })
             .collect();

@@ -7,6 +7,7 @@ pub mod dissociation;
 pub mod field_path;
 pub mod limits;
 pub mod model_choice;
+pub mod observe;
 pub mod provenance;
 pub mod reader;
 pub mod status;

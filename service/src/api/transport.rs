@@ -12,6 +12,7 @@ use super::{
     field_path::FieldPath,
     limits,
     model_choice::choose_model,
+    observe,
     provenance::{self, Method},
     reader::RequestReader,
     status::{InvalidRequest, Violation, REASON_INCONSISTENT, REASON_UNKNOWN_ENUM},
@@ -61,14 +62,18 @@ impl OxygenTransportService for TransportApi {
         &self,
         request: Request<OxygenContentRequest>,
     ) -> Result<Response<OxygenContentResponse>, Status> {
-        Ok(Response::new(compute_oxygen_content(request.get_ref())?))
+        let response = compute_oxygen_content(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 
     async fn gas_exchange(
         &self,
         request: Request<GasExchangeRequest>,
     ) -> Result<Response<GasExchangeResponse>, Status> {
-        Ok(Response::new(compute_gas_exchange(request.get_ref())?))
+        let response = compute_gas_exchange(request.get_ref())?;
+        observe::result(response.provenance.as_ref(), &response.warnings);
+        Ok(Response::new(response))
     }
 }
 

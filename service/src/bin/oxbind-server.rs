@@ -1,12 +1,19 @@
-//! `oxbind-server`: parse config, set up logging, bind, and serve until
-//! SIGTERM or SIGINT.
+//! `oxbind-server`: parse config, set up logging and telemetry export, bind,
+//! and serve until SIGTERM or SIGINT.
 
-use oxbind_service::{config::Config, serve, shutdown::shutdown_signal, telemetry};
+use oxbind_service::{
+    config::{Config, EXIT_CONFIG_INVALID},
+    serve_on,
+    shutdown::shutdown_signal,
+    telemetry, ServeError,
+};
 
 #[tokio::main]
 async fn main() {
     let config = Config::from_env_and_args();
-    telemetry::init_tracing(config.log_format, &config.log_filter);
+    let telemetry = telemetry::init(config.log_format, &config.log_filter);
+    // Install the signal handlers before anything can report "serving".
+    let shutdown = shutdown_signal();
 
     let listener = match tokio::net::TcpListener::bind(config.listen).await {
         Ok(listener) => listener,
@@ -15,9 +22,29 @@ async fn main() {
             std::process::exit(1);
         }
     };
+    let health_listener = match config.health_listen {
+        Some(address) => match tokio::net::TcpListener::bind(address).await {
+            Ok(listener) => Some(listener),
+            Err(error) => {
+                tracing::error!(health_listen = %address, %error, "cannot bind the health listen address");
+                std::process::exit(1);
+            }
+        },
+        None => None,
+    };
 
-    if let Err(error) = serve(listener, config, shutdown_signal()).await {
-        tracing::error!(%error, "server failed");
-        std::process::exit(1);
+    let result = serve_on(listener, health_listener, config, shutdown).await;
+    // Send the last spans and metrics before exiting.
+    let _ = tokio::task::spawn_blocking(move || telemetry.shutdown()).await;
+    match result {
+        Ok(()) => {}
+        Err(error @ ServeError::Tls(_)) => {
+            tracing::error!(%error, "invalid TLS configuration");
+            std::process::exit(EXIT_CONFIG_INVALID);
+        }
+        Err(error) => {
+            tracing::error!(%error, "server failed");
+            std::process::exit(1);
+        }
     }
 }

@@ -1,0 +1,37 @@
+//! What a call leaves in telemetry: the model used and the warning codes
+//! raised (never a clinical value), recorded on the call's span and metrics.
+
+use oxbind_proto::v1::{Provenance, Warning, WarningCode};
+
+use super::status::InvalidRequest;
+use crate::{physiology::model::catalog, telemetry};
+
+/// Record the model and the warnings of one computed result.
+pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
+    if let Some(id) = provenance
+        .map(|p| p.model_id.as_str())
+        .and_then(|id| catalog().iter().find(|info| info.id == id))
+        .map(|info| info.id)
+    {
+        telemetry::record_model(id);
+    }
+    if !warnings.is_empty() {
+        let codes: Vec<&'static str> = warnings
+            .iter()
+            .map(|w| {
+                WarningCode::try_from(w.code)
+                    .unwrap_or(WarningCode::Unspecified)
+                    .as_str_name()
+            })
+            .collect();
+        telemetry::record_warnings(&codes);
+    }
+}
+
+/// Record the refused field paths of one batch item (the path, never the
+/// value).
+pub fn refused_item(refusal: &InvalidRequest) {
+    for violation in refusal.violations() {
+        telemetry::record_refused_input(&violation.field);
+    }
+}
