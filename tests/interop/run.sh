@@ -1,0 +1,61 @@
+#!/usr/bin/env bash
+# Independent-client interop suite: Python's reference gRPC implementation
+# (grpcio) against a freshly started oxbind-server. Self-contained: makes its
+# own virtual environment, installs the pinned client stack, builds the server
+# binary if it is missing, and runs pytest. Exits non-zero on any failure,
+# including "no tests collected".
+#
+# Environment:
+#   OXBIND_INTEROP_VENV  virtual environment (default: target/interop-venv)
+#   OXBIND_SERVER_BIN    server binary to test, used as given; when unset,
+#                        target/debug/oxbind-server is (re)built with cargo
+#                        first, a no-op when it is up to date
+#   PYTHON               interpreter that creates the venv (default: python3)
+# Extra arguments go to pytest (for example -k vectors, -x, -v).
+set -euo pipefail
+
+root="$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)"
+cd "$root"
+
+venv="${OXBIND_INTEROP_VENV:-$root/target/interop-venv}"
+python="${PYTHON:-python3}"
+requirements="$root/tests/interop/requirements.txt"
+server_bin_given="${OXBIND_SERVER_BIN:+yes}"
+export OXBIND_SERVER_BIN="${OXBIND_SERVER_BIN:-$root/target/debug/oxbind-server}"
+export OXBIND_REPO_ROOT="$root"
+# Keep bytecode caches out of the source tree.
+export PYTHONDONTWRITEBYTECODE=1
+
+step() { printf '\n==> %s\n' "$*"; }
+
+step "Python client stack in $venv"
+if [ ! -x "$venv/bin/python" ]; then
+    "$python" -m venv "$venv"
+fi
+stamp="$venv/.oxbind-requirements"
+if ! cmp -s "$requirements" "$stamp" 2>/dev/null; then
+    "$venv/bin/python" -m pip install --quiet --disable-pip-version-check \
+        --requirement "$requirements"
+    cp "$requirements" "$stamp"
+fi
+
+if [ -z "$server_bin_given" ]; then
+    step "cargo build -p oxbind-service --bin oxbind-server"
+    cargo build --locked -p oxbind-service --bin oxbind-server
+fi
+if [ ! -x "$OXBIND_SERVER_BIN" ]; then
+    echo "error: no server binary at $OXBIND_SERVER_BIN" >&2
+    exit 1
+fi
+
+step "pytest tests/interop"
+set +e
+"$venv/bin/python" -m pytest -c "$root/tests/interop/pytest.ini" \
+    --rootdir "$root/tests/interop" "$root/tests/interop" "$@"
+status=$?
+set -e
+if [ "$status" -eq 5 ]; then
+    echo "error: pytest collected no tests" >&2
+    exit 1
+fi
+exit "$status"
