@@ -60,4 +60,7 @@ done < <(find deploy/kubernetes -name '*.yaml' ! -name 'kustomization.yaml' | so
     --kubernetes-version "$kubernetes_schema_version" "${manifests[@]}"
 echo "${#manifests[@]} manifests valid"
 
+step "interop (an independent Python grpcio client)"
+bash tests/interop/run.sh
+
 step "all checks passed"

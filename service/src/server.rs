@@ -98,16 +98,28 @@ where
     F: Future<Output = ()> + Send + 'static,
 {
     let (reporter, health_service) = tonic_health::server::health_reporter();
-    let reflection = if config.no_reflection {
-        None
+    // Reflection in both protocol versions: v1, and v1alpha for the many
+    // tools (grpcio-reflection's client among them) that still speak only it.
+    let reflection_builder = || {
+        tonic_reflection::server::Builder::configure()
+            .register_encoded_file_descriptor_set(FILE_DESCRIPTOR_SET)
+            .register_encoded_file_descriptor_set(tonic_types::pb::FILE_DESCRIPTOR_SET)
+            .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
+    };
+    let (reflection, reflection_v1alpha) = if config.no_reflection {
+        (None, None)
     } else {
-        Some(
-            tonic_reflection::server::Builder::configure()
-                .register_encoded_file_descriptor_set(FILE_DESCRIPTOR_SET)
-                .register_encoded_file_descriptor_set(tonic_types::pb::FILE_DESCRIPTOR_SET)
-                .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
-                .build_v1()
-                .map_err(ServeError::Reflection)?,
+        (
+            Some(
+                reflection_builder()
+                    .build_v1()
+                    .map_err(ServeError::Reflection)?,
+            ),
+            Some(
+                reflection_builder()
+                    .build_v1alpha()
+                    .map_err(ServeError::Reflection)?,
+            ),
         )
     };
     let tls = tls_config(&config)?;
@@ -138,6 +150,7 @@ where
         ))
         .add_service(health_service.clone())
         .add_optional_service(reflection)
+        .add_optional_service(reflection_v1alpha)
         .add_service(
             DissociationServiceServer::new(DissociationApi::new(config.max_batch_items))
                 .max_decoding_message_size(decode)
