@@ -63,8 +63,9 @@ for t in "${targets[@]}"; do
     dirs=("$fuzz_dir/corpus/$t")
     if [ -d "$fuzz_dir/regressions/$t" ]; then dirs+=("$fuzz_dir/regressions/$t"); fi
     log="$work/$t-replay.log"
-    mkdir -p "$work"
-    if "$bin_dir/$t" "${fuzz_flags[@]}" -runs=0 "${dirs[@]}" >"$log" 2>&1; then
+    mkdir -p "$work/artifacts/$t"
+    if "$bin_dir/$t" "${fuzz_flags[@]}" -runs=0 -artifact_prefix="$work/artifacts/$t/replay-" \
+        "${dirs[@]}" >"$log" 2>&1; then
         replay_result[$t]="ok ($(grep -c . <(find "${dirs[@]}" -type f)) inputs)"
     else
         replay_result[$t]="FAILED"
