@@ -63,4 +63,7 @@ echo "${#manifests[@]} manifests valid"
 step "interop (an independent Python grpcio client)"
 bash tests/interop/run.sh
 
+step "fuzz smoke (cargo-fuzz on the nightly toolchain: corpus replay and about 60 s of fuzzing)"
+bash tests/fuzz-smoke.sh
+
 step "all checks passed"

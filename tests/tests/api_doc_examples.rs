@@ -628,8 +628,8 @@ async fn batch_tension_from_saturation_example_is_true() {
         panic!("item 1 refused: {:?}", r.results[1]);
     };
     assert_eq!(status.code, 3);
-    let saturation = "requests[1].saturation_fraction must lie in (0, 1): PO2 is zero at \
-saturation 0 and infinite at 1, so the inverse is defined only strictly between them";
+    let saturation = "requests[1].saturation_fraction must lie in [0.000001, 0.999999]: PO2 is zero at \
+saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6";
     assert_eq!(status.message, saturation);
     let (violations, info) = details(&status.details);
     let violations: Vec<(&str, &str, &str)> = violations
@@ -649,10 +649,10 @@ saturation 0 and infinite at 1, so the inverse is defined only strictly between 
         &info,
         &[
             ("field", "requests[1].saturation_fraction"),
-            ("max_fraction", "1"),
-            ("max_inclusive", "false"),
-            ("min_fraction", "0"),
-            ("min_inclusive", "false"),
+            ("max_fraction", "0.999999"),
+            ("max_inclusive", "true"),
+            ("min_fraction", "0.000001"),
+            ("min_inclusive", "true"),
             ("violation_count", "1"),
         ],
     );
@@ -917,8 +917,8 @@ model. Pass every warning on with the value it concerns."
             ("ph", 6.0, true, 8.5, true, "[pH]", "PH_OUT_OF_RANGE"),
             (
                 "pressure",
-                0.0,
-                false,
+                0.001,
+                true,
                 7600.0,
                 true,
                 "mm[Hg]",
@@ -944,10 +944,10 @@ model. Pass every warning on with the value it concerns."
             ),
             (
                 "saturation_open",
-                0.0,
-                false,
-                1.0,
-                false,
+                1e-6,
+                true,
+                0.999999,
+                true,
                 "1",
                 "SATURATION_OUT_OF_RANGE"
             ),
@@ -1007,7 +1007,7 @@ model. Pass every warning on with the value it concerns."
                 "HEMOGLOBIN_OUT_OF_RANGE"
             ),
             ("fio2", 0.05, true, 1.0, true, "1", "FIO2_OUT_OF_RANGE"),
-            ("hill_n", 0.0, false, 4.0, true, "1", "HILL_N_OUT_OF_RANGE"),
+            ("hill_n", 0.1, true, 4.0, true, "1", "HILL_N_OUT_OF_RANGE"),
             (
                 "hufner_factor",
                 1.3,
@@ -1241,8 +1241,8 @@ async fn refused_request_example_is_true() {
         .await
         .expect_err("refused");
     assert_eq!(status.code(), tonic::Code::InvalidArgument);
-    let po2 = "po2.value must lie in (0, 7600] mm[Hg]: a partial pressure must be \
-positive; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment";
+    let po2 = "po2.value must lie in [0.001, 7600] mm[Hg]: below 0.001 mm[Hg] no \
+analyser reads and the equations lose all precision; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment";
     assert_eq!(
         status.message(),
         format!("{po2} (and 2 more invalid fields)")
@@ -1279,8 +1279,8 @@ writes it `Cel`); accepted UCUM codes (case-sensitive): Cel, [degF]",
             ("field", "po2.value"),
             ("max_inclusive", "true"),
             ("max_mmhg", "7600"),
-            ("min_inclusive", "false"),
-            ("min_mmhg", "0"),
+            ("min_inclusive", "true"),
+            ("min_mmhg", "0.001"),
             ("violation_count", "3"),
         ],
     );

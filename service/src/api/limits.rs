@@ -13,6 +13,19 @@ use crate::physiology::{content, gas_exchange, hill, temperature};
 /// over their whole saturation range; requests cannot.
 pub const PRESSURE_MAX_MMHG: f64 = 7600.0;
 
+/// Lowest partial pressure accepted, mmHg: far below any analyser's reading,
+/// and above the range where powers of the tension under- or overflow.
+pub const PRESSURE_MIN_MMHG: f64 = 0.001;
+
+/// Lowest saturation accepted by the inverse and the logit-scale fits.
+pub const SATURATION_OPEN_MIN: f64 = 1e-6;
+
+/// Highest saturation accepted by the inverse and the logit-scale fits.
+pub const SATURATION_OPEN_MAX: f64 = 1.0 - 1e-6;
+
+/// Lowest Hill coefficient accepted.
+pub const HILL_N_MIN: f64 = 0.1;
+
 /// A hard limit on one kind of input, in the engine's unit.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct HardLimit {
@@ -117,12 +130,12 @@ pub const PRESSURE: HardLimit = HardLimit {
     ],
     unit: "mm[Hg]",
     unit_key: "mmhg",
-    min: 0.0,
-    min_inclusive: false,
+    min: PRESSURE_MIN_MMHG,
+    min_inclusive: true,
     max: PRESSURE_MAX_MMHG,
     max_inclusive: true,
     error_reason: "PRESSURE_OUT_OF_RANGE",
-    reason: "a partial pressure must be positive; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment",
+    reason: "below 0.001 mm[Hg] no analyser reads and the equations lose all precision; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment",
 };
 
 /// Barometric pressure.
@@ -169,12 +182,12 @@ pub const SATURATION_OPEN: HardLimit = HardLimit {
     fields: &["saturation_fraction", "pairs[].saturation_fraction"],
     unit: "1",
     unit_key: "fraction",
-    min: 0.0,
-    min_inclusive: false,
-    max: 1.0,
-    max_inclusive: false,
+    min: SATURATION_OPEN_MIN,
+    min_inclusive: true,
+    max: SATURATION_OPEN_MAX,
+    max_inclusive: true,
     error_reason: "SATURATION_OUT_OF_RANGE",
-    reason: "PO2 is zero at saturation 0 and infinite at 1, so the inverse is defined only strictly between them",
+    reason: "PO2 is zero at saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6",
 };
 
 /// A measured saturation (co-oximetry or pulse oximetry).
@@ -333,13 +346,12 @@ pub const HILL_N: HardLimit = HardLimit {
     fields: &["hill.n", "arterial.hill.n", "venous.hill.n"],
     unit: "1",
     unit_key: "dimensionless",
-    min: 0.0,
-    min_inclusive: false,
+    min: HILL_N_MIN,
+    min_inclusive: true,
     max: hill::HILL_N_MAX,
     max_inclusive: true,
     error_reason: "HILL_N_OUT_OF_RANGE",
-    reason:
-        "the Hill coefficient cannot exceed the four oxygen binding sites of a haemoglobin tetramer",
+    reason: "below 0.1 the curve is flat over any physiological range; the coefficient cannot exceed the four oxygen binding sites of a haemoglobin tetramer",
 };
 
 /// Hüfner factor.
