@@ -8,13 +8,15 @@
 use std::collections::HashMap;
 
 use oxbind_service::physiology::content::{
-    default_hufner_factor_ml_per_g, dissolved_oxygen_ml_per_dl,
-    fractional_from_functional_saturation, functional_from_fractional_saturation,
-    oxygen_capacity_ml_per_dl, oxygen_content_ml_per_dl, oxygen_content_ml_per_dl_from_mmol_per_l,
+    default_hufner_factor_ml_per_g, dissolved_oxygen_ml_per_dl, oxygen_capacity_ml_per_dl,
+    oxygen_content_ml_per_dl, oxygen_content_ml_per_dl_from_mmol_per_l,
     oxygen_content_mmol_per_l_from_ml_per_dl, oxygen_flow_mmol_per_min_from_ml_per_min,
     oxygen_transport, sample_oxygen_content, BloodOxygenSample, OxygenTransportInput,
     SaturationKind, DISSOLVED_O2_ML_PER_DL_PER_KPA, O2_MOLAR_VOLUME_ML_PER_MMOL,
     O2_SOLUBILITY_SI_MMOL_PER_L_PER_KPA,
+};
+use oxbind_service::physiology::dyshemoglobin::{
+    fractional_from_functional, functional_from_fractional,
 };
 use oxbind_service::physiology::error::{Input, PhysiologyError};
 use oxbind_service::physiology::gas_exchange::{
@@ -200,7 +202,7 @@ fn oxygen_content_reference_table() {
             "consumption" => transport().consumption_ml_per_min,
             "extraction" => transport().extraction_fraction,
             "arteriovenous_difference" => transport().arteriovenous_difference_ml_per_dl,
-            "fractional_from_functional" => ok(fractional_from_functional_saturation(
+            "fractional_from_functional" => ok(fractional_from_functional(
                 get(i, "s"),
                 get(i, "cohb"),
                 get(i, "methb"),
@@ -403,8 +405,8 @@ fn hufner_defaults_follow_the_saturation_kind() {
 
 #[test]
 fn functional_and_fractional_conversions_round_trip() {
-    let fo2hb = fractional_from_functional_saturation(0.97, 0.10, 0.01).unwrap();
-    let so2 = functional_from_fractional_saturation(fo2hb, 0.10, 0.01).unwrap();
+    let fo2hb = fractional_from_functional(0.97, 0.10, 0.01).unwrap();
+    let so2 = functional_from_fractional(fo2hb, 0.10, 0.01).unwrap();
     assert!((so2 - 0.97).abs() < 1e-12);
 }
 
@@ -634,8 +636,8 @@ proptest! {
         prop_assert_eq!(oxygen_content_ml_per_dl(15.0, 0.98, bad, 1.34).unwrap_err().input(), Input::Po2);
         prop_assert_eq!(oxygen_content_ml_per_dl(15.0, 0.98, 100.0, bad).unwrap_err().input(), Input::HufnerFactor);
         prop_assert_eq!(dissolved_oxygen_ml_per_dl(bad).unwrap_err().input(), Input::Po2);
-        prop_assert_eq!(fractional_from_functional_saturation(0.9, bad, 0.0).unwrap_err().input(), Input::Cohb);
-        prop_assert_eq!(fractional_from_functional_saturation(0.9, 0.0, bad).unwrap_err().input(), Input::Methb);
+        prop_assert_eq!(fractional_from_functional(0.9, bad, 0.0).unwrap_err().input(), Input::Cohb);
+        prop_assert_eq!(fractional_from_functional(0.9, 0.0, bad).unwrap_err().input(), Input::Methb);
         prop_assert_eq!(oxygen_capacity_ml_per_dl(bad, 1.34, 0.0, 0.0).unwrap_err().input(), Input::Hemoglobin);
         let good = OxygenTransportInput {
             hemoglobin_g_per_dl: 15.0,
