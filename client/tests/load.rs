@@ -108,6 +108,8 @@ fn check_consistent(result: &Value) {
 #[test]
 fn saturation_with_baseline_reports_both_and_their_ratio() {
     let server = Server::start();
+    // The in-process server is this test process.
+    let pid = std::process::id().to_string();
     let report = server.load(&[
         "--rpc",
         "saturation",
@@ -120,6 +122,8 @@ fn saturation_with_baseline_reports_both_and_their_ratio() {
         "--duration",
         "0.3",
         "--baseline",
+        "--server-pid",
+        &pid,
     ]);
     let result = &report["result"];
     let baseline = &report["baseline"];
@@ -132,6 +136,15 @@ fn saturation_with_baseline_reports_both_and_their_ratio() {
     assert_eq!(baseline["connections"], 2);
     check_consistent(result);
     check_consistent(baseline);
+    for phase in [result, baseline] {
+        let usage = &phase["server"];
+        assert!(f(&usage["cpuSeconds"]) > 0.0, "{report}");
+        let per_call = f(&usage["cpuMicrosPerCall"]);
+        let expected = f(&usage["cpuSeconds"]) * 1e6 / f(&phase["callsOk"]);
+        assert!((per_call - expected).abs() <= 1e-9 * expected, "{report}");
+        assert!(f(&usage["vmRssKiB"]) > 0.0, "{report}");
+        assert!(f(&usage["vmHwmKiB"]) >= f(&usage["vmRssKiB"]), "{report}");
+    }
     let ratio = f(&report["ratioToBaseline"]);
     let expected = f(&result["callsPerSecond"]) / f(&baseline["callsPerSecond"]);
     assert!((ratio - expected).abs() <= 1e-9 * expected, "{report}");

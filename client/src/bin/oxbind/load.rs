@@ -72,6 +72,11 @@ pub(crate) struct LoadArgs {
     /// before, and print the ratio of call rates.
     #[arg(long)]
     pub(crate) baseline: bool,
+    /// Process id of the server, when it runs on this machine: the report
+    /// then gives the server's CPU time per call in the measured window
+    /// (from `/proc/PID/task/*/schedstat`) and its VmRSS and VmHWM after it.
+    #[arg(long, value_name = "PID")]
+    pub(crate) server_pid: Option<u32>,
     /// Largest response message the client decodes, in bytes (a 10,000-item
     /// batch answer is larger than tonic's default of 4 MiB).
     #[arg(long, default_value_t = 256 * 1024 * 1024, value_name = "BYTES")]
@@ -131,6 +136,39 @@ struct Report {
     latency_micros: Histogram<u64>,
     request_bytes: Option<usize>,
     response_bytes: Option<usize>,
+    server: Option<ServerUsage>,
+}
+
+/// The server's CPU time in the measured window and its memory after it.
+#[derive(Debug, Clone, Copy)]
+struct ServerUsage {
+    cpu: Duration,
+    vm_rss_kib: Option<u64>,
+    vm_hwm_kib: Option<u64>,
+}
+
+/// CPU time of every thread of `pid` so far, from `/proc/PID/task/*/schedstat`
+/// (its first field is the time on a CPU, in nanoseconds).
+fn cpu_time(pid: u32) -> Option<Duration> {
+    let mut total = 0u64;
+    for task in std::fs::read_dir(format!("/proc/{pid}/task")).ok()? {
+        let stat = std::fs::read_to_string(task.ok()?.path().join("schedstat")).ok()?;
+        total += stat.split_whitespace().next()?.parse::<u64>().ok()?;
+    }
+    Some(Duration::from_nanos(total))
+}
+
+/// A `VmRSS:`-style line of `/proc/PID/status`, in KiB.
+fn status_kib(pid: u32, field: &str) -> Option<u64> {
+    let status = std::fs::read_to_string(format!("/proc/{pid}/status")).ok()?;
+    status
+        .lines()
+        .find_map(|line| line.strip_prefix(field))?
+        .trim()
+        .strip_suffix("kB")?
+        .trim()
+        .parse()
+        .ok()
 }
 
 impl Report {
@@ -140,6 +178,11 @@ impl Report {
 
     fn items_per_second(&self) -> f64 {
         self.calls_per_second() * f64::from(self.items_per_call)
+    }
+
+    fn server_cpu_micros_per_call(&self) -> Option<f64> {
+        let usage = self.server?;
+        (self.calls_ok > 0).then(|| usage.cpu.as_secs_f64() * 1e6 / self.calls_ok as f64)
     }
 
     fn quantile_ms(&self, q: f64) -> f64 {
@@ -171,6 +214,12 @@ impl Report {
             "responseBytes": self.response_bytes,
             "requestBytesPerItem": per_item(self.request_bytes),
             "responseBytesPerItem": per_item(self.response_bytes),
+            "server": self.server.map(|u| json!({
+                "cpuSeconds": u.cpu.as_secs_f64(),
+                "cpuMicrosPerCall": self.server_cpu_micros_per_call(),
+                "vmRssKiB": u.vm_rss_kib,
+                "vmHwmKiB": u.vm_hwm_kib,
+            })),
         })
     }
 
@@ -219,6 +268,21 @@ impl Report {
                     req as f64 / items,
                     resp as f64 / items
                 ),
+            ));
+        }
+        if let Some(usage) = self.server {
+            rows.push((
+                "server CPU per call".into(),
+                format!(
+                    "{:.1} µs ({:.2} s in the window)",
+                    self.server_cpu_micros_per_call().unwrap_or(f64::NAN),
+                    usage.cpu.as_secs_f64()
+                ),
+            ));
+            let kib = |v: Option<u64>| v.map_or("?".to_string(), |v| format!("{v} KiB"));
+            rows.push((
+                "server VmRSS / VmHWM after".into(),
+                format!("{} / {}", kib(usage.vm_rss_kib), kib(usage.vm_hwm_kib)),
             ));
         }
         if self.errors.is_empty() {
@@ -306,6 +370,14 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
     let measure_from = start + Duration::from_secs_f64(args.warm_up);
     let measure_until = measure_from + Duration::from_secs_f64(args.duration);
     let budget = Arc::new(AtomicU64::new(args.max_calls.unwrap_or(u64::MAX)));
+    let cpu_at_start = args.server_pid.map(|pid| {
+        tokio::spawn(async move {
+            tokio::time::sleep_until(measure_from.into()).await;
+            let before = cpu_time(pid)?;
+            tokio::time::sleep_until(measure_until.into()).await;
+            Some(cpu_time(pid)?.saturating_sub(before))
+        })
+    });
     let mut tasks = Vec::with_capacity(args.in_flight as usize);
     for i in 0..args.in_flight {
         let task = Task {
@@ -338,6 +410,7 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
         latency_micros: new_histogram(),
         request_bytes: None,
         response_bytes: None,
+        server: None,
     };
     for task in tasks {
         let Ok(tally) = task.await else {
@@ -361,6 +434,19 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
     report.window = finished
         .saturating_duration_since(measure_from)
         .max(Duration::from_micros(1));
+    if let (Some(pid), Some(sampler)) = (args.server_pid, cpu_at_start) {
+        // The server's CPU time over the same window as the calls counted;
+        // none for a run cut short by --max-calls.
+        if finished < measure_until {
+            sampler.abort();
+        } else if let Ok(Some(cpu)) = sampler.await {
+            report.server = Some(ServerUsage {
+                cpu,
+                vm_rss_kib: status_kib(pid, "VmRSS:"),
+                vm_hwm_kib: status_kib(pid, "VmHWM:"),
+            });
+        }
+    }
     report
 }
 
