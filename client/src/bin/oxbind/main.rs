@@ -10,6 +10,7 @@ mod batch;
 mod commands;
 mod demo;
 mod failure;
+mod load;
 mod output;
 mod plot;
 
@@ -130,6 +131,9 @@ enum Command {
     Health,
     /// Saturations for every row of a CSV file, through the batch RPC.
     Batch(batch::BatchArgs),
+    /// Drive one RPC with many calls in flight and report calls/s,
+    /// latency quantiles and errors (plaintext HTTP/2 only).
+    Load(load::LoadArgs),
     /// An invented scenario at a fictional hospital, with an SVG of its curves.
     Demo(demo::DemoArgs),
     /// Print a shell completion script.
@@ -184,6 +188,23 @@ async fn run(cli: Cli) -> Result<(), Failure> {
         );
         return Ok(());
     }
+    if let Command::Load(args) = &cli.command {
+        if !(cli.timeout.is_finite() && cli.timeout > 0.0) {
+            return Err(Failure::Usage(
+                "--timeout must be a positive number of seconds".into(),
+            ));
+        }
+        let ctx = load::LoadContext {
+            server: cli.server.clone(),
+            model: cli
+                .model
+                .map(|m| oxbind_client::v1::Model::from(m) as i32)
+                .unwrap_or(0),
+            json: cli.json,
+            timeout: Duration::from_secs_f64(cli.timeout),
+        };
+        return load::run(&ctx, args).await;
+    }
     let ctx = Context {
         client: connect(&cli).await?,
         model: cli
@@ -217,7 +238,7 @@ async fn run(cli: Cli) -> Result<(), Failure> {
         Command::Health => commands::health(&ctx).await,
         Command::Batch(args) => batch::run(&ctx, &args).await,
         Command::Demo(args) => demo::run(&ctx, &args).await,
-        Command::Completions { .. } => Ok(()),
+        Command::Completions { .. } | Command::Load(_) => Ok(()),
     }
 }
 

@@ -1,0 +1,652 @@
+//! `oxbind load`: a closed-loop load generator for one RPC.
+//!
+//! `--in-flight` tasks share `--connections` HTTP/2 connections (one tonic
+//! channel each, task `i` on connection `i mod C`). Each task sends one
+//! call, waits for the answer, and sends the next, with inputs drawn from
+//! its own seeded generator (so every call differs and a run can be
+//! repeated). Calls that finish during `--warm-up` are not counted; the
+//! measured window is `--duration` long and each task stops sending when it
+//! ends (its last call is awaited, bounded by `--timeout`, and not counted).
+//! `--max-calls` bounds the count as well. With `--baseline`,
+//! `grpc.health.v1.Health/Check` is driven the same way on the same server
+//! just before, and the ratio of call rates is printed.
+//!
+//! Only plaintext HTTP/2 (loopback or the `--server` given): the figures
+//! are for the service, not for TLS.
+
+use std::{
+    collections::BTreeMap,
+    sync::{
+        atomic::{AtomicU64, Ordering},
+        Arc,
+    },
+    time::{Duration, Instant},
+};
+
+use clap::{Args, ValueEnum};
+use hdrhistogram::Histogram;
+use oxbind_client::{
+    code_name,
+    health::{health_client::HealthClient, HealthCheckRequest},
+    v1::{
+        dissociation_service_client::DissociationServiceClient,
+        saturation_from_tension_result::Result as ItemOutcome, BatchSaturationFromTensionRequest,
+        BloodConditions, Quantity, SaturationFromTensionRequest,
+    },
+    Code,
+};
+use prost::Message;
+use serde_json::json;
+use tonic::transport::{Channel, Endpoint};
+
+use crate::{failure::Failure, output};
+
+/// Flags of `oxbind load`.
+#[derive(Debug, Clone, Args)]
+pub(crate) struct LoadArgs {
+    /// The RPC to drive.
+    #[arg(long, value_enum, default_value_t = LoadRpc::Saturation)]
+    pub(crate) rpc: LoadRpc,
+    /// Calls in flight at once (one closed-loop task each).
+    #[arg(long, default_value_t = 64, value_parser = clap::value_parser!(u32).range(1..=10_000))]
+    pub(crate) in_flight: u32,
+    /// HTTP/2 connections the calls share (one tonic channel each).
+    #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u32).range(1..=256))]
+    pub(crate) connections: u32,
+    /// Length of the measured window, in seconds (at most 600).
+    #[arg(long, default_value_t = 10.0, value_name = "SECONDS")]
+    pub(crate) duration: f64,
+    /// Time before the measured window whose calls are not counted, in seconds.
+    #[arg(long, default_value_t = 2.0, value_name = "SECONDS")]
+    pub(crate) warm_up: f64,
+    /// Items per call with `--rpc batch-saturation`.
+    #[arg(long, default_value_t = 1000, value_parser = clap::value_parser!(u32).range(1..=100_000))]
+    pub(crate) items: u32,
+    /// Stop after this many measured calls in all, even if the window is not over.
+    #[arg(long, value_name = "COUNT")]
+    pub(crate) max_calls: Option<u64>,
+    /// Seed of the input generator (task `i` uses `seed + i`).
+    #[arg(long, default_value_t = 1)]
+    pub(crate) seed: u64,
+    /// Also drive `grpc.health.v1.Health/Check` with the same settings, just
+    /// before, and print the ratio of call rates.
+    #[arg(long)]
+    pub(crate) baseline: bool,
+    /// Process id of the server, when it runs on this machine: the report
+    /// then gives the server's CPU time per call in the measured window
+    /// (from `/proc/PID/task/*/schedstat`) and its VmRSS and VmHWM after it.
+    #[arg(long, value_name = "PID")]
+    pub(crate) server_pid: Option<u32>,
+    /// Largest response message the client decodes, in bytes (a 10,000-item
+    /// batch answer is larger than tonic's default of 4 MiB).
+    #[arg(long, default_value_t = 256 * 1024 * 1024, value_name = "BYTES")]
+    pub(crate) max_decoding_message_bytes: usize,
+}
+
+/// The RPCs `oxbind load` can drive.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub(crate) enum LoadRpc {
+    /// `oxbind.v1.DissociationService/SaturationFromTension`, with conditions.
+    Saturation,
+    /// `oxbind.v1.DissociationService/BatchSaturationFromTension`, `--items` per call.
+    BatchSaturation,
+    /// `grpc.health.v1.Health/Check` for the whole server.
+    Health,
+}
+
+impl LoadRpc {
+    fn method(self) -> &'static str {
+        match self {
+            LoadRpc::Saturation => "oxbind.v1.DissociationService/SaturationFromTension",
+            LoadRpc::BatchSaturation => "oxbind.v1.DissociationService/BatchSaturationFromTension",
+            LoadRpc::Health => "grpc.health.v1.Health/Check",
+        }
+    }
+}
+
+/// What the load command needs from the global flags.
+pub(crate) struct LoadContext {
+    pub(crate) server: String,
+    pub(crate) model: i32,
+    pub(crate) json: bool,
+    pub(crate) timeout: Duration,
+}
+
+/// Longest measured window accepted, in seconds: the tool is bounded.
+const MAX_WINDOW_SECONDS: f64 = 600.0;
+
+/// Largest latency the histogram records, in microseconds (one minute);
+/// longer calls are recorded as this value.
+const MAX_LATENCY_MICROS: u64 = 60_000_000;
+
+/// Significant decimal digits the latency histogram keeps.
+const HISTOGRAM_SIGFIGS: u8 = 3;
+
+/// The outcome of driving one RPC.
+#[derive(Debug)]
+struct Report {
+    rpc: LoadRpc,
+    in_flight: u32,
+    connections: u32,
+    items_per_call: u32,
+    window: Duration,
+    calls_ok: u64,
+    errors: BTreeMap<&'static str, u64>,
+    item_errors: BTreeMap<&'static str, u64>,
+    latency_micros: Histogram<u64>,
+    request_bytes: Option<usize>,
+    response_bytes: Option<usize>,
+    server: Option<ServerUsage>,
+}
+
+/// The server's CPU time in the measured window and its memory after it.
+#[derive(Debug, Clone, Copy)]
+struct ServerUsage {
+    cpu: Duration,
+    vm_rss_kib: Option<u64>,
+    vm_hwm_kib: Option<u64>,
+}
+
+/// CPU time of every thread of `pid` so far, from `/proc/PID/task/*/schedstat`
+/// (its first field is the time on a CPU, in nanoseconds).
+fn cpu_time(pid: u32) -> Option<Duration> {
+    let mut total = 0u64;
+    for task in std::fs::read_dir(format!("/proc/{pid}/task")).ok()? {
+        let stat = std::fs::read_to_string(task.ok()?.path().join("schedstat")).ok()?;
+        total += stat.split_whitespace().next()?.parse::<u64>().ok()?;
+    }
+    Some(Duration::from_nanos(total))
+}
+
+/// A `VmRSS:`-style line of `/proc/PID/status`, in KiB.
+fn status_kib(pid: u32, field: &str) -> Option<u64> {
+    let status = std::fs::read_to_string(format!("/proc/{pid}/status")).ok()?;
+    status
+        .lines()
+        .find_map(|line| line.strip_prefix(field))?
+        .trim()
+        .strip_suffix("kB")?
+        .trim()
+        .parse()
+        .ok()
+}
+
+impl Report {
+    fn calls_per_second(&self) -> f64 {
+        self.calls_ok as f64 / self.window.as_secs_f64()
+    }
+
+    fn items_per_second(&self) -> f64 {
+        self.calls_per_second() * f64::from(self.items_per_call)
+    }
+
+    fn server_cpu_micros_per_call(&self) -> Option<f64> {
+        let usage = self.server?;
+        (self.calls_ok > 0).then(|| usage.cpu.as_secs_f64() * 1e6 / self.calls_ok as f64)
+    }
+
+    fn quantile_ms(&self, q: f64) -> f64 {
+        self.latency_micros.value_at_quantile(q) as f64 / 1000.0
+    }
+
+    fn to_json(&self) -> serde_json::Value {
+        let per_item =
+            |bytes: Option<usize>| bytes.map(|b| b as f64 / f64::from(self.items_per_call.max(1)));
+        json!({
+            "rpc": self.rpc.method(),
+            "inFlight": self.in_flight,
+            "connections": self.connections,
+            "itemsPerCall": self.items_per_call,
+            "windowSeconds": self.window.as_secs_f64(),
+            "callsOk": self.calls_ok,
+            "callsPerSecond": self.calls_per_second(),
+            "itemsPerSecond": self.items_per_second(),
+            "latencyMs": {
+                "p50": self.quantile_ms(0.50),
+                "p90": self.quantile_ms(0.90),
+                "p99": self.quantile_ms(0.99),
+                "p999": self.quantile_ms(0.999),
+                "max": self.latency_micros.max() as f64 / 1000.0,
+            },
+            "errors": self.errors,
+            "itemErrors": self.item_errors,
+            "requestBytes": self.request_bytes,
+            "responseBytes": self.response_bytes,
+            "requestBytesPerItem": per_item(self.request_bytes),
+            "responseBytesPerItem": per_item(self.response_bytes),
+            "server": self.server.map(|u| json!({
+                "cpuSeconds": u.cpu.as_secs_f64(),
+                "cpuMicrosPerCall": self.server_cpu_micros_per_call(),
+                "vmRssKiB": u.vm_rss_kib,
+                "vmHwmKiB": u.vm_hwm_kib,
+            })),
+        })
+    }
+
+    fn rows(&self) -> Vec<(String, String)> {
+        let mut rows = vec![
+            ("rpc".to_string(), self.rpc.method().to_string()),
+            (
+                "in flight / connections".to_string(),
+                format!("{} / {}", self.in_flight, self.connections),
+            ),
+            (
+                "window".to_string(),
+                format!("{:.2} s", self.window.as_secs_f64()),
+            ),
+            ("calls ok".to_string(), self.calls_ok.to_string()),
+            (
+                "calls/s".to_string(),
+                format!("{:.0}", self.calls_per_second()),
+            ),
+        ];
+        if self.rpc == LoadRpc::BatchSaturation {
+            rows.push(("items per call".into(), self.items_per_call.to_string()));
+            rows.push(("items/s".into(), format!("{:.0}", self.items_per_second())));
+        }
+        for (name, q) in [
+            ("p50", 0.50),
+            ("p90", 0.90),
+            ("p99", 0.99),
+            ("p99.9", 0.999),
+        ] {
+            rows.push((
+                format!("latency {name}"),
+                format!("{:.3} ms", self.quantile_ms(q)),
+            ));
+        }
+        rows.push((
+            "latency max".into(),
+            format!("{:.3} ms", self.latency_micros.max() as f64 / 1000.0),
+        ));
+        if let (Some(req), Some(resp)) = (self.request_bytes, self.response_bytes) {
+            let items = f64::from(self.items_per_call.max(1));
+            rows.push((
+                "request / response bytes".into(),
+                format!(
+                    "{req} / {resp} ({:.1} / {:.1} per item)",
+                    req as f64 / items,
+                    resp as f64 / items
+                ),
+            ));
+        }
+        if let Some(usage) = self.server {
+            rows.push((
+                "server CPU per call".into(),
+                format!(
+                    "{:.1} µs ({:.2} s in the window)",
+                    self.server_cpu_micros_per_call().unwrap_or(f64::NAN),
+                    usage.cpu.as_secs_f64()
+                ),
+            ));
+            let kib = |v: Option<u64>| v.map_or("?".to_string(), |v| format!("{v} KiB"));
+            rows.push((
+                "server VmRSS / VmHWM after".into(),
+                format!("{} / {}", kib(usage.vm_rss_kib), kib(usage.vm_hwm_kib)),
+            ));
+        }
+        if self.errors.is_empty() {
+            rows.push(("errors".into(), "none".into()));
+        }
+        for (code, count) in &self.errors {
+            rows.push((format!("errors {code}"), count.to_string()));
+        }
+        for (code, count) in &self.item_errors {
+            rows.push((format!("item errors {code}"), count.to_string()));
+        }
+        rows
+    }
+}
+
+/// Run `oxbind load`.
+pub(crate) async fn run(ctx: &LoadContext, args: &LoadArgs) -> Result<(), Failure> {
+    for (name, value) in [("--duration", args.duration), ("--warm-up", args.warm_up)] {
+        if !(value.is_finite() && (0.0..=MAX_WINDOW_SECONDS).contains(&value)) {
+            return Err(Failure::Usage(format!(
+                "{name} must be between 0 and {MAX_WINDOW_SECONDS} seconds"
+            )));
+        }
+    }
+    if args.duration <= 0.0 {
+        return Err(Failure::Usage(
+            "--duration must be more than 0 seconds".into(),
+        ));
+    }
+    if !ctx.server.starts_with("http://") {
+        return Err(Failure::Usage(
+            "oxbind load speaks plaintext HTTP/2 only: give --server http://HOST:PORT".into(),
+        ));
+    }
+    let channels = open_channels(&ctx.server, args.connections).await?;
+    let baseline = if args.baseline && args.rpc != LoadRpc::Health {
+        Some(drive(ctx, args, LoadRpc::Health, &channels).await)
+    } else {
+        None
+    };
+    let report = drive(ctx, args, args.rpc, &channels).await;
+    print(ctx, &report, baseline.as_ref());
+    if report.calls_ok == 0 {
+        return Err(Failure::Other(format!(
+            "no call succeeded in the measured window (errors: {:?})",
+            report.errors
+        )));
+    }
+    Ok(())
+}
+
+async fn open_channels(server: &str, count: u32) -> Result<Vec<Channel>, Failure> {
+    let endpoint = Endpoint::from_shared(server.to_string())
+        .map_err(|e| Failure::Usage(format!("--server {server}: {e}")))?
+        .tcp_nodelay(true)
+        .connect_timeout(Duration::from_secs(5));
+    let mut channels = Vec::with_capacity(count as usize);
+    for _ in 0..count {
+        // Each `connect` opens its own TCP connection (one HTTP/2 connection).
+        let channel = endpoint
+            .connect()
+            .await
+            .map_err(|e| Failure::Other(format!("cannot connect to {server}: {e}")))?;
+        channels.push(channel);
+    }
+    Ok(channels)
+}
+
+/// What one task saw.
+struct TaskTally {
+    calls_ok: u64,
+    errors: BTreeMap<&'static str, u64>,
+    item_errors: BTreeMap<&'static str, u64>,
+    latency_micros: Histogram<u64>,
+    sizes: Option<(usize, usize)>,
+}
+
+fn new_histogram() -> Histogram<u64> {
+    Histogram::new_with_bounds(1, MAX_LATENCY_MICROS, HISTOGRAM_SIGFIGS)
+        .expect("constant histogram bounds are valid")
+}
+
+async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Channel]) -> Report {
+    let start = Instant::now();
+    let measure_from = start + Duration::from_secs_f64(args.warm_up);
+    let measure_until = measure_from + Duration::from_secs_f64(args.duration);
+    let budget = Arc::new(AtomicU64::new(args.max_calls.unwrap_or(u64::MAX)));
+    let cpu_at_start = args.server_pid.map(|pid| {
+        tokio::spawn(async move {
+            tokio::time::sleep_until(measure_from.into()).await;
+            let before = cpu_time(pid)?;
+            tokio::time::sleep_until(measure_until.into()).await;
+            Some(cpu_time(pid)?.saturating_sub(before))
+        })
+    });
+    let mut tasks = Vec::with_capacity(args.in_flight as usize);
+    for i in 0..args.in_flight {
+        let task = Task {
+            rpc,
+            channel: channels[i as usize % channels.len()].clone(),
+            rng: fastrand::Rng::with_seed(args.seed.wrapping_add(u64::from(i))),
+            model: ctx.model,
+            items: args.items,
+            timeout: ctx.timeout,
+            max_decoding: args.max_decoding_message_bytes,
+            measure_from,
+            measure_until,
+            budget: budget.clone(),
+        };
+        tasks.push(tokio::spawn(task.run()));
+    }
+    let mut report = Report {
+        rpc,
+        in_flight: args.in_flight,
+        connections: args.connections,
+        items_per_call: if rpc == LoadRpc::BatchSaturation {
+            args.items
+        } else {
+            1
+        },
+        window: Duration::ZERO,
+        calls_ok: 0,
+        errors: BTreeMap::new(),
+        item_errors: BTreeMap::new(),
+        latency_micros: new_histogram(),
+        request_bytes: None,
+        response_bytes: None,
+        server: None,
+    };
+    for task in tasks {
+        let Ok(tally) = task.await else {
+            *report.errors.entry("LOAD_TASK_FAILED").or_default() += 1;
+            continue;
+        };
+        report.calls_ok += tally.calls_ok;
+        merge(&mut report.errors, &tally.errors);
+        merge(&mut report.item_errors, &tally.item_errors);
+        report
+            .latency_micros
+            .add(&tally.latency_micros)
+            .expect("histograms share their bounds");
+        if let (None, Some((req, resp))) = (report.response_bytes, tally.sizes) {
+            report.request_bytes = Some(req);
+            report.response_bytes = Some(resp);
+        }
+    }
+    // A run stopped by --max-calls has a shorter window.
+    let finished = Instant::now().min(measure_until);
+    report.window = finished
+        .saturating_duration_since(measure_from)
+        .max(Duration::from_micros(1));
+    if let (Some(pid), Some(sampler)) = (args.server_pid, cpu_at_start) {
+        // The server's CPU time over the same window as the calls counted;
+        // none for a run cut short by --max-calls.
+        if finished < measure_until {
+            sampler.abort();
+        } else if let Ok(Some(cpu)) = sampler.await {
+            report.server = Some(ServerUsage {
+                cpu,
+                vm_rss_kib: status_kib(pid, "VmRSS:"),
+                vm_hwm_kib: status_kib(pid, "VmHWM:"),
+            });
+        }
+    }
+    report
+}
+
+fn merge(into: &mut BTreeMap<&'static str, u64>, from: &BTreeMap<&'static str, u64>) {
+    for (code, count) in from {
+        *into.entry(code).or_default() += count;
+    }
+}
+
+/// One closed-loop caller.
+struct Task {
+    rpc: LoadRpc,
+    channel: Channel,
+    rng: fastrand::Rng,
+    model: i32,
+    items: u32,
+    timeout: Duration,
+    max_decoding: usize,
+    measure_from: Instant,
+    measure_until: Instant,
+    budget: Arc<AtomicU64>,
+}
+
+impl Task {
+    async fn run(mut self) -> TaskTally {
+        let mut tally = TaskTally {
+            calls_ok: 0,
+            errors: BTreeMap::new(),
+            item_errors: BTreeMap::new(),
+            latency_micros: new_histogram(),
+            sizes: None,
+        };
+        let mut dissociation = DissociationServiceClient::new(self.channel.clone())
+            .max_decoding_message_size(self.max_decoding)
+            .max_encoding_message_size(usize::MAX);
+        let mut health = HealthClient::new(self.channel.clone());
+        loop {
+            let sent = Instant::now();
+            if sent >= self.measure_until {
+                break;
+            }
+            let outcome: Result<(), Code> = match self.rpc {
+                LoadRpc::Health => {
+                    let mut request = tonic::Request::new(HealthCheckRequest {
+                        service: String::new(),
+                    });
+                    request.set_timeout(self.timeout);
+                    health
+                        .check(request)
+                        .await
+                        .map(|_| ())
+                        .map_err(|s| s.code())
+                }
+                LoadRpc::Saturation => {
+                    let mut request = tonic::Request::new(self.saturation_request());
+                    request.set_timeout(self.timeout);
+                    dissociation
+                        .saturation_from_tension(request)
+                        .await
+                        .map(|_| ())
+                        .map_err(|s| s.code())
+                }
+                LoadRpc::BatchSaturation => {
+                    let batch = BatchSaturationFromTensionRequest {
+                        requests: (0..self.items).map(|_| self.saturation_request()).collect(),
+                    };
+                    let request_len = if tally.sizes.is_none() {
+                        batch.encoded_len()
+                    } else {
+                        0
+                    };
+                    let mut request = tonic::Request::new(batch);
+                    request.set_timeout(self.timeout);
+                    match dissociation.batch_saturation_from_tension(request).await {
+                        Ok(response) => {
+                            let response = response.into_inner();
+                            if tally.sizes.is_none() {
+                                tally.sizes = Some((request_len, response.encoded_len()));
+                            }
+                            if Instant::now() >= self.measure_from {
+                                self.tally_items(&mut tally, &response.results);
+                            }
+                            Ok(())
+                        }
+                        Err(status) => Err(status.code()),
+                    }
+                }
+            };
+            let done = Instant::now();
+            if done < self.measure_from || done > self.measure_until {
+                continue;
+            }
+            let counted = self
+                .budget
+                .fetch_update(Ordering::Relaxed, Ordering::Relaxed, |left| {
+                    left.checked_sub(1)
+                })
+                .is_ok();
+            if !counted {
+                break;
+            }
+            match outcome {
+                Ok(()) => {
+                    tally.calls_ok += 1;
+                    let micros = u64::try_from((done - sent).as_micros()).unwrap_or(u64::MAX);
+                    tally.latency_micros.saturating_record(micros.max(1));
+                }
+                Err(code) => *tally.errors.entry(code_name(code)).or_default() += 1,
+            }
+        }
+        tally
+    }
+
+    fn tally_items(
+        &self,
+        tally: &mut TaskTally,
+        results: &[oxbind_client::v1::SaturationFromTensionResult],
+    ) {
+        if results.len() != self.items as usize {
+            *tally.item_errors.entry("WRONG_RESULT_COUNT").or_default() += 1;
+        }
+        for result in results {
+            match &result.result {
+                Some(ItemOutcome::Response(_)) => {}
+                Some(ItemOutcome::Error(status)) => {
+                    *tally
+                        .item_errors
+                        .entry(code_name(Code::from(status.code)))
+                        .or_default() += 1;
+                }
+                None => *tally.item_errors.entry("EMPTY_RESULT").or_default() += 1,
+            }
+        }
+    }
+
+    /// A plausible arterial or venous blood gas, different on every call:
+    /// PO2 20 to 150 mm[Hg] (a fifth of them sent in kPa), pH 7.20 to 7.55,
+    /// PCO2 25 to 65 mm[Hg], temperature 34 to 40 Cel, and for half of them a
+    /// base excess of -8 to 8 mmol/L. Invented values, not patient data.
+    fn saturation_request(&mut self) -> SaturationFromTensionRequest {
+        let rng = &mut self.rng;
+        let po2_mmhg = 20.0 + 130.0 * rng.f64();
+        let po2 = if rng.u8(0..5) == 0 {
+            Quantity::kpa(po2_mmhg * KPA_PER_MMHG)
+        } else {
+            Quantity::mm_hg(po2_mmhg)
+        };
+        let mut conditions = BloodConditions::standard()
+            .with_ph(7.20 + 0.35 * rng.f64())
+            .with_pco2(Quantity::mm_hg(25.0 + 40.0 * rng.f64()))
+            .with_temperature(Quantity::celsius(34.0 + 6.0 * rng.f64()));
+        if rng.bool() {
+            conditions = conditions.with_base_excess(Quantity::mmol_per_l(-8.0 + 16.0 * rng.f64()));
+        }
+        SaturationFromTensionRequest {
+            po2: Some(po2),
+            conditions: Some(conditions),
+            model: self.model,
+            hill: None,
+            unit_system: 0,
+        }
+    }
+}
+
+/// kPa per mm[Hg]: 101.325 kPa / 760 mm[Hg] (the standard atmosphere, ISO 2533).
+const KPA_PER_MMHG: f64 = 101.325 / 760.0;
+
+fn print(ctx: &LoadContext, report: &Report, baseline: Option<&Report>) {
+    let ratio = baseline.map(|b| report.calls_per_second() / b.calls_per_second());
+    if ctx.json {
+        let value = json!({
+            "server": ctx.server,
+            "result": report.to_json(),
+            "baseline": baseline.map(Report::to_json),
+            "ratioToBaseline": ratio,
+        });
+        println!(
+            "{}",
+            serde_json::to_string_pretty(&value).expect("JSON values serialise")
+        );
+        return;
+    }
+    let mut rows = report.rows();
+    if let (Some(b), Some(ratio)) = (baseline, ratio) {
+        rows.push((
+            "baseline Health/Check calls/s".into(),
+            format!("{:.0}", b.calls_per_second()),
+        ));
+        rows.push((
+            "baseline latency p50 / p99".into(),
+            format!("{:.3} / {:.3} ms", b.quantile_ms(0.50), b.quantile_ms(0.99)),
+        ));
+        if !b.errors.is_empty() {
+            rows.push(("baseline errors".into(), format!("{:?}", b.errors)));
+        }
+        rows.push(("ratio to baseline".into(), format!("{ratio:.3}")));
+    }
+    let mut table = output::Table::new();
+    for (label, value) in rows {
+        table.row(label, value);
+    }
+    table.print();
+}

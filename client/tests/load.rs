@@ -1,0 +1,219 @@
+//! `oxbind load` against a real in-process server, for about a second in
+//! all: the JSON report's shape and counts, the baseline ratio, batch mode's
+//! item counts and sizes, the `--max-calls` bound, and the usage errors.
+//! No timing is asserted: speed figures live in BENCHMARKS.md.
+
+use assert_cmd::Command;
+use serde_json::Value;
+use tokio::sync::oneshot;
+
+/// A real server on `127.0.0.1:0`, on its own runtime thread.
+struct Server {
+    uri: String,
+    stop: Option<oneshot::Sender<()>>,
+    thread: Option<std::thread::JoinHandle<()>>,
+}
+
+impl Server {
+    fn start() -> Self {
+        let (ready_tx, ready_rx) = std::sync::mpsc::channel();
+        let (stop, stopped) = oneshot::channel::<()>();
+        let thread = std::thread::spawn(move || {
+            let runtime = tokio::runtime::Builder::new_multi_thread()
+                .worker_threads(2)
+                .enable_all()
+                .build()
+                .unwrap();
+            runtime.block_on(async move {
+                let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await.unwrap();
+                ready_tx
+                    .send(format!("http://{}", listener.local_addr().unwrap()))
+                    .unwrap();
+                oxbind_service::serve(listener, oxbind_service::Config::default(), async move {
+                    let _ = stopped.await;
+                })
+                .await
+                .unwrap();
+            });
+        });
+        Self {
+            uri: ready_rx.recv().unwrap(),
+            stop: Some(stop),
+            thread: Some(thread),
+        }
+    }
+
+    fn load(&self, args: &[&str]) -> Value {
+        let output = Command::cargo_bin("oxbind")
+            .unwrap()
+            .env("OXBIND_SERVER", &self.uri)
+            .arg("--json")
+            .arg("load")
+            .args(args)
+            .output()
+            .unwrap();
+        assert!(
+            output.status.success(),
+            "exit {:?}: {}",
+            output.status.code(),
+            String::from_utf8_lossy(&output.stderr)
+        );
+        serde_json::from_slice(&output.stdout).expect("stdout is JSON")
+    }
+}
+
+impl Drop for Server {
+    fn drop(&mut self) {
+        if let Some(stop) = self.stop.take() {
+            let _ = stop.send(());
+        }
+        if let Some(thread) = self.thread.take() {
+            let _ = thread.join();
+        }
+    }
+}
+
+fn f(value: &Value) -> f64 {
+    value
+        .as_f64()
+        .unwrap_or_else(|| panic!("{value} is not a number"))
+}
+
+/// The rate is the count over the window, and the quantiles are ordered.
+fn check_consistent(result: &Value) {
+    let calls = f(&result["callsOk"]);
+    let window = f(&result["windowSeconds"]);
+    assert!(calls > 0.0, "{result}");
+    let rate = f(&result["callsPerSecond"]);
+    assert!(
+        (rate - calls / window).abs() <= 1e-9 * rate.max(1.0),
+        "{result}"
+    );
+    let items = f(&result["itemsPerCall"]);
+    assert!(
+        (f(&result["itemsPerSecond"]) - rate * items).abs() <= 1e-9 * rate.max(1.0) * items,
+        "{result}"
+    );
+    let latency = &result["latencyMs"];
+    let order = ["p50", "p90", "p99", "p999", "max"].map(|q| f(&latency[q]));
+    assert!(order[0] > 0.0, "{result}");
+    for pair in order.windows(2) {
+        // hdrhistogram reports the bucket's highest equivalent value for a
+        // quantile, which may exceed the exact max by its 3-digit resolution.
+        assert!(pair[0] <= pair[1] * 1.001 + 1e-3, "{result}");
+    }
+    assert_eq!(result["errors"], serde_json::json!({}), "{result}");
+}
+
+#[test]
+fn saturation_with_baseline_reports_both_and_their_ratio() {
+    let server = Server::start();
+    // The in-process server is this test process.
+    let pid = std::process::id().to_string();
+    let report = server.load(&[
+        "--rpc",
+        "saturation",
+        "--in-flight",
+        "4",
+        "--connections",
+        "2",
+        "--warm-up",
+        "0.1",
+        "--duration",
+        "0.3",
+        "--baseline",
+        "--server-pid",
+        &pid,
+    ]);
+    let result = &report["result"];
+    let baseline = &report["baseline"];
+    assert_eq!(
+        result["rpc"],
+        "oxbind.v1.DissociationService/SaturationFromTension"
+    );
+    assert_eq!(baseline["rpc"], "grpc.health.v1.Health/Check");
+    assert_eq!(result["inFlight"], 4);
+    assert_eq!(baseline["connections"], 2);
+    check_consistent(result);
+    check_consistent(baseline);
+    for phase in [result, baseline] {
+        let usage = &phase["server"];
+        assert!(f(&usage["cpuSeconds"]) > 0.0, "{report}");
+        let per_call = f(&usage["cpuMicrosPerCall"]);
+        let expected = f(&usage["cpuSeconds"]) * 1e6 / f(&phase["callsOk"]);
+        assert!((per_call - expected).abs() <= 1e-9 * expected, "{report}");
+        assert!(f(&usage["vmRssKiB"]) > 0.0, "{report}");
+        assert!(f(&usage["vmHwmKiB"]) >= f(&usage["vmRssKiB"]), "{report}");
+    }
+    let ratio = f(&report["ratioToBaseline"]);
+    let expected = f(&result["callsPerSecond"]) / f(&baseline["callsPerSecond"]);
+    assert!((ratio - expected).abs() <= 1e-9 * expected, "{report}");
+}
+
+#[test]
+fn batch_counts_items_and_sizes_and_every_item_is_computed() {
+    let server = Server::start();
+    let report = server.load(&[
+        "--rpc",
+        "batch-saturation",
+        "--items",
+        "50",
+        "--in-flight",
+        "2",
+        "--connections",
+        "1",
+        "--warm-up",
+        "0.1",
+        "--duration",
+        "0.3",
+        "--model",
+        "dash-2016",
+    ]);
+    let result = &report["result"];
+    assert_eq!(result["itemsPerCall"], 50);
+    check_consistent(result);
+    // The generated inputs are all within the hard ranges: no item refused.
+    assert_eq!(result["itemErrors"], serde_json::json!({}), "{report}");
+    // Each item is at least its PO2 and conditions on the wire, and each
+    // answer at least a saturation and a P50.
+    assert!(f(&result["requestBytesPerItem"]) > 20.0, "{report}");
+    assert!(f(&result["responseBytesPerItem"]) > 20.0, "{report}");
+    assert!(report["baseline"].is_null());
+}
+
+#[test]
+fn max_calls_bounds_the_count() {
+    let server = Server::start();
+    let report = server.load(&[
+        "--rpc",
+        "health",
+        "--in-flight",
+        "3",
+        "--connections",
+        "1",
+        "--warm-up",
+        "0",
+        "--duration",
+        "30",
+        "--max-calls",
+        "25",
+    ]);
+    assert_eq!(report["result"]["callsOk"], 25, "{report}");
+}
+
+#[test]
+fn bad_settings_are_usage_errors() {
+    for args in [
+        &["load", "--duration", "0"][..],
+        &["load", "--duration", "601"],
+        &["load", "--warm-up", "-1"],
+        &["load", "--in-flight", "0"],
+        &["--server", "https://127.0.0.1:1", "load"],
+    ] {
+        Command::cargo_bin("oxbind")
+            .unwrap()
+            .args(args)
+            .assert()
+            .code(2);
+    }
+}
