@@ -11,9 +11,10 @@ use oxbind_proto::v1::{
     BatchTensionFromSaturationRequest, BloodConditions, CorrectForTemperatureRequest,
     CorrectForTemperatureResponse, EstimateP50Request, EstimateP50Response, GasExchangeRequest,
     GasExchangeResponse, ListModelsRequest, ListModelsResponse, OxygenContentRequest,
-    OxygenContentResponse, Quantity, SampleCurveRequest, SampleCurveResponse,
-    SaturationFromTensionRequest, SaturationFromTensionResponse, ShiftFactorsRequest,
-    ShiftFactorsResponse, TensionFromSaturationRequest, TensionFromSaturationResponse,
+    OxygenContentResponse, Provenance, ProvenancePlacement, Quantity, SampleCurveRequest,
+    SampleCurveResponse, SaturationFromTensionRequest, SaturationFromTensionResponse,
+    ShiftFactorsRequest, ShiftFactorsResponse, TensionFromSaturationRequest,
+    TensionFromSaturationResponse,
 };
 use tonic::{
     transport::{Certificate, Channel, ClientTlsConfig, Endpoint, Identity},
@@ -389,8 +390,33 @@ impl OxbindClient {
         &self,
         requests: Vec<SaturationFromTensionRequest>,
     ) -> Result<Vec<ItemResult<SaturationFromTensionResponse>>, ClientError> {
+        self.batch_saturation(requests, ProvenancePlacement::EachItem)
+            .await
+    }
+
+    /// [`Self::batch_saturation_from_tension`] with the provenance sent once
+    /// per batch (`PROVENANCE_PLACEMENT_SHARED`): a much smaller answer for
+    /// large batches. Each computed item's response gets its shared entry
+    /// copied back in, so the results have the same shape; the entries carry
+    /// no `inputs_used` (the item's inputs are those of its request).
+    pub async fn batch_saturation_from_tension_sharing_provenance(
+        &self,
+        requests: Vec<SaturationFromTensionRequest>,
+    ) -> Result<Vec<ItemResult<SaturationFromTensionResponse>>, ClientError> {
+        self.batch_saturation(requests, ProvenancePlacement::Shared)
+            .await
+    }
+
+    async fn batch_saturation(
+        &self,
+        requests: Vec<SaturationFromTensionRequest>,
+        placement: ProvenancePlacement,
+    ) -> Result<Vec<ItemResult<SaturationFromTensionResponse>>, ClientError> {
         let stub = self.dissociation.clone();
-        let request = BatchSaturationFromTensionRequest { requests };
+        let request = BatchSaturationFromTensionRequest {
+            requests,
+            provenance_placement: placement as i32,
+        };
         let response = self
             .retried(move || {
                 let mut stub = stub.clone();
@@ -398,11 +424,17 @@ impl OxbindClient {
                 async move { stub.batch_saturation_from_tension(request).await }
             })
             .await?;
+        let shared = response.shared_provenance;
         Ok(response
             .results
             .into_iter()
             .map(|item| match item.result {
-                Some(saturation_from_tension_result::Result::Response(r)) => Ok(r),
+                Some(saturation_from_tension_result::Result::Response(mut r)) => {
+                    if placement == ProvenancePlacement::Shared {
+                        r.provenance = Some(shared_entry(&shared, item.shared_provenance_index)?);
+                    }
+                    Ok(r)
+                }
                 Some(saturation_from_tension_result::Result::Error(e)) => {
                     Err(ClientError::from_rpc_status(&e))
                 }
@@ -417,8 +449,30 @@ impl OxbindClient {
         &self,
         requests: Vec<TensionFromSaturationRequest>,
     ) -> Result<Vec<ItemResult<TensionFromSaturationResponse>>, ClientError> {
+        self.batch_tension(requests, ProvenancePlacement::EachItem)
+            .await
+    }
+
+    /// [`Self::batch_tension_from_saturation`] with the provenance sent once
+    /// per batch, as [`Self::batch_saturation_from_tension_sharing_provenance`].
+    pub async fn batch_tension_from_saturation_sharing_provenance(
+        &self,
+        requests: Vec<TensionFromSaturationRequest>,
+    ) -> Result<Vec<ItemResult<TensionFromSaturationResponse>>, ClientError> {
+        self.batch_tension(requests, ProvenancePlacement::Shared)
+            .await
+    }
+
+    async fn batch_tension(
+        &self,
+        requests: Vec<TensionFromSaturationRequest>,
+        placement: ProvenancePlacement,
+    ) -> Result<Vec<ItemResult<TensionFromSaturationResponse>>, ClientError> {
         let stub = self.dissociation.clone();
-        let request = BatchTensionFromSaturationRequest { requests };
+        let request = BatchTensionFromSaturationRequest {
+            requests,
+            provenance_placement: placement as i32,
+        };
         let response = self
             .retried(move || {
                 let mut stub = stub.clone();
@@ -426,11 +480,17 @@ impl OxbindClient {
                 async move { stub.batch_tension_from_saturation(request).await }
             })
             .await?;
+        let shared = response.shared_provenance;
         Ok(response
             .results
             .into_iter()
             .map(|item| match item.result {
-                Some(tension_from_saturation_result::Result::Response(r)) => Ok(r),
+                Some(tension_from_saturation_result::Result::Response(mut r)) => {
+                    if placement == ProvenancePlacement::Shared {
+                        r.provenance = Some(shared_entry(&shared, item.shared_provenance_index)?);
+                    }
+                    Ok(r)
+                }
                 Some(tension_from_saturation_result::Result::Error(e)) => {
                     Err(ClientError::from_rpc_status(&e))
                 }
@@ -455,6 +515,22 @@ impl OxbindClient {
             .await?;
         Ok(response.status())
     }
+}
+
+/// The shared provenance entry an item names.
+fn shared_entry(shared: &[Provenance], index: u32) -> Result<Provenance, ClientError> {
+    shared
+        .get(index as usize)
+        .cloned()
+        .ok_or_else(|| ClientError::Status {
+            code: Code::Internal,
+            message: format!(
+                "batch item names shared provenance entry {index}, but the answer has {}",
+                shared.len()
+            ),
+            violations: Vec::new(),
+            info: None,
+        })
 }
 
 fn missing_item() -> ClientError {

@@ -277,6 +277,41 @@ async fn refusals_expose_each_field_violation() {
     assert!(error.to_string().contains("conditions.ph"));
 }
 
+/// The shared-provenance batch gives the same values as the per-item one and
+/// copies each item's shared entry back into its response.
+#[tokio::test]
+async fn shared_provenance_batches_give_the_same_results_with_provenance_copied_back() {
+    let (uri, _stop) = start_service().await;
+    let client = OxbindClient::connect(uri).await.unwrap();
+    let requests = [40.0, -1.0, 100.0].map(|po2| SaturationFromTensionRequest {
+        po2: Some(Quantity::mm_hg(po2)),
+        conditions: Some(BloodConditions::standard().with_ph(7.31)),
+        ..Default::default()
+    });
+    let each = client
+        .batch_saturation_from_tension(requests.to_vec())
+        .await
+        .unwrap();
+    let shared = client
+        .batch_saturation_from_tension_sharing_provenance(requests.to_vec())
+        .await
+        .unwrap();
+    assert_eq!(shared.len(), 3);
+    for index in [0, 2] {
+        let a = each[index].as_ref().unwrap();
+        let b = shared[index].as_ref().unwrap();
+        assert_eq!(a.saturation_fraction, b.saturation_fraction);
+        let (pa, pb) = (
+            a.provenance.as_ref().unwrap(),
+            b.provenance.as_ref().unwrap(),
+        );
+        assert_eq!(pa.model_id, pb.model_id);
+        assert_eq!(pa.within_validated_range, pb.within_validated_range);
+        assert!(!pa.inputs_used.is_empty() && pb.inputs_used.is_empty());
+    }
+    assert!(shared[1].as_ref().unwrap_err().is_refusal());
+}
+
 #[tokio::test]
 async fn batch_items_carry_their_own_errors_and_the_rest_compute() {
     let (uri, _stop) = start_service().await;

@@ -33,6 +33,7 @@ fn batch(items: usize) -> BatchSaturationFromTensionRequest {
         requests: (0..items)
             .map(|i| saturation_request(20.0 + (i % 80) as f64, 7.40))
             .collect(),
+        ..Default::default()
     }
 }
 

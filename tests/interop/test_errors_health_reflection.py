@@ -74,6 +74,33 @@ def test_a_batch_with_a_bad_item_gives_that_item_its_own_status(stubs, channel):
     assert info == ("VALUE_NOT_FINITE", ERROR_DOMAIN)
 
 
+def test_a_shared_provenance_batch_names_one_entry_per_model(stubs, channel):
+    pb2 = dissociation(stubs)
+    common = stubs.common
+    items = [
+        pb2.SaturationFromTensionRequest(po2=common.Quantity(value=v, unit="mm[Hg]"))
+        for v in (40, float("nan"), 60)
+    ]
+    stub = stubs.stub("oxbind.v1.DissociationService", channel)
+    response = stub.BatchSaturationFromTension(
+        pb2.BatchSaturationFromTensionRequest(
+            requests=items,
+            provenance_placement=pb2.PROVENANCE_PLACEMENT_SHARED,
+        ),
+        timeout=10,
+    )
+    kinds = [r.WhichOneof("result") for r in response.results]
+    assert kinds == ["response", "error", "response"]
+    assert [p.model_id for p in response.shared_provenance] == ["severinghaus-1979"]
+    assert len(response.shared_provenance[0].inputs_used) == 0
+    for index in (0, 2):
+        item = response.results[index]
+        assert item.shared_provenance_index == 0
+        assert not item.response.HasField("provenance")
+    # Severinghaus 1979 Eq. 1 at 60 mmHg: 0.905797 (derived, methods.md section 1).
+    assert abs(response.results[2].response.saturation_fraction - 0.905797) <= 1e-6
+
+
 @pytest.mark.parametrize("service", ["", *V1_SERVICES])
 def test_health_is_serving(channel, service):
     # grpc.health.v1: "" is the whole server; each service by its full name.

@@ -30,7 +30,10 @@ async fn a_batch_with_bad_items_computes_the_rest_in_order() {
         item(20.0, "mm[Hg]"),
     ];
     let response = client
-        .batch_saturation_from_tension(BatchSaturationFromTensionRequest { requests })
+        .batch_saturation_from_tension(BatchSaturationFromTensionRequest {
+            requests,
+            ..Default::default()
+        })
         .await
         .unwrap()
         .into_inner();
@@ -78,7 +81,10 @@ async fn the_inverse_batch_gives_per_item_errors_too() {
         })
         .collect();
     let response = client
-        .batch_tension_from_saturation(BatchTensionFromSaturationRequest { requests })
+        .batch_tension_from_saturation(BatchTensionFromSaturationRequest {
+            requests,
+            ..Default::default()
+        })
         .await
         .unwrap()
         .into_inner();
@@ -111,7 +117,10 @@ async fn empty_and_oversized_batches_are_refused_naming_the_limit() {
     .await;
     let mut client = DissociationServiceClient::new(server.channel().await);
     let empty = client
-        .batch_saturation_from_tension(BatchSaturationFromTensionRequest { requests: vec![] })
+        .batch_saturation_from_tension(BatchSaturationFromTensionRequest {
+            requests: vec![],
+            ..Default::default()
+        })
         .await
         .unwrap_err();
     let (violations, info) = refusal_of(&empty);
@@ -121,6 +130,7 @@ async fn empty_and_oversized_batches_are_refused_naming_the_limit() {
     let oversized = client
         .batch_saturation_from_tension(BatchSaturationFromTensionRequest {
             requests: vec![item(40.0, "mm[Hg]"); 4],
+            ..Default::default()
         })
         .await
         .unwrap_err();
@@ -193,5 +203,146 @@ async fn the_catalog_lists_every_model_with_its_cautions_and_limits() {
         .find(|m| m.model_id == "hill")
         .unwrap();
     assert_eq!(hill.hill_presets.len(), 3);
+    server.stop().await;
+}
+
+/// With PROVENANCE_PLACEMENT_SHARED the items carry no provenance, name an
+/// entry of the shared list (one per model and within_validated_range), and
+/// their values are those of the per-item answer.
+#[tokio::test]
+async fn shared_provenance_is_given_once_per_model_and_range() {
+    use oxbind_client::v1::{Model, ProvenancePlacement};
+    let server = TestServer::start().await;
+    let mut client = DissociationServiceClient::new(server.channel().await);
+    let kelman = |po2: f64| SaturationFromTensionRequest {
+        model: Model::Kelman1966 as i32,
+        ..item(po2, "mm[Hg]")
+    };
+    // Items 0 and 2: Severinghaus inside its range; 1: refused; 3: Kelman;
+    // 4: Severinghaus at pH 7.9, outside its validated pH range (6.8-7.8).
+    let requests = vec![
+        item(40.0, "mm[Hg]"),
+        item(-1.0, "mm[Hg]"),
+        item(100.0, "mm[Hg]"),
+        kelman(60.0),
+        SaturationFromTensionRequest {
+            conditions: Some(oxbind_client::v1::BloodConditions::standard().with_ph(7.9)),
+            ..item(50.0, "mm[Hg]")
+        },
+    ];
+    let each = client
+        .batch_saturation_from_tension(BatchSaturationFromTensionRequest {
+            requests: requests.clone(),
+            provenance_placement: ProvenancePlacement::EachItem as i32,
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    let shared = client
+        .batch_saturation_from_tension(BatchSaturationFromTensionRequest {
+            requests,
+            provenance_placement: ProvenancePlacement::Shared as i32,
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    assert!(each.shared_provenance.is_empty());
+    let entries: Vec<(&str, bool)> = shared
+        .shared_provenance
+        .iter()
+        .map(|p| (p.model_id.as_str(), p.within_validated_range))
+        .collect();
+    assert_eq!(
+        entries,
+        [
+            ("severinghaus-1979", true),
+            ("kelman-1966", true),
+            ("severinghaus-1979", false)
+        ]
+    );
+    for entry in &shared.shared_provenance {
+        assert!(entry.inputs_used.is_empty());
+        assert!(!entry.reference.is_empty() && entry.compute_time.is_some());
+    }
+    let expected_index = [Some(0), None, Some(0), Some(1), Some(2)];
+    for (index, (alone, lean)) in each.results.iter().zip(&shared.results).enumerate() {
+        match (&alone.result, &lean.result, expected_index[index]) {
+            (
+                Some(saturation_from_tension_result::Result::Response(a)),
+                Some(saturation_from_tension_result::Result::Response(b)),
+                Some(entry),
+            ) => {
+                assert_eq!(lean.shared_provenance_index, entry, "item {index}");
+                assert!(b.provenance.is_none(), "item {index}");
+                assert_eq!(a.saturation_fraction, b.saturation_fraction);
+                assert_eq!(a.p50_at_conditions, b.p50_at_conditions);
+                assert_eq!(a.hill_slope, b.hill_slope);
+                assert_eq!(a.warnings, b.warnings);
+                let own = a.provenance.as_ref().unwrap();
+                let named = &shared.shared_provenance[entry as usize];
+                assert_eq!(own.model_id, named.model_id);
+                assert_eq!(own.within_validated_range, named.within_validated_range);
+                assert_eq!(own.reference, named.reference);
+            }
+            (
+                Some(saturation_from_tension_result::Result::Error(a)),
+                Some(saturation_from_tension_result::Result::Error(b)),
+                None,
+            ) => {
+                // ErrorInfo metadata is a map, encoded in no set order.
+                assert_eq!((a.code, &a.message), (b.code, &b.message));
+                assert_eq!(decode_details(&a.details), decode_details(&b.details));
+                assert_eq!(lean.shared_provenance_index, 0);
+            }
+            other => panic!("item {index}: {other:?}"),
+        }
+    }
+    server.stop().await;
+}
+
+/// The inverse batch shares its provenance the same way, and an unknown
+/// placement refuses the batch, naming the field.
+#[tokio::test]
+async fn the_inverse_batch_shares_provenance_and_an_unknown_placement_is_refused() {
+    use oxbind_client::v1::ProvenancePlacement;
+    let server = TestServer::start().await;
+    let mut client = DissociationServiceClient::new(server.channel().await);
+    let requests: Vec<_> = [0.5, 0.75]
+        .iter()
+        .map(|&s| TensionFromSaturationRequest {
+            saturation_fraction: s,
+            ..Default::default()
+        })
+        .collect();
+    let shared = client
+        .batch_tension_from_saturation(BatchTensionFromSaturationRequest {
+            requests: requests.clone(),
+            provenance_placement: ProvenancePlacement::Shared as i32,
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    assert_eq!(shared.shared_provenance.len(), 1);
+    assert_eq!(shared.shared_provenance[0].model_id, "severinghaus-1979");
+    match &shared.results[0].result {
+        // The root of Severinghaus 1979 Eq. 1 at S = 0.5, 26.8568 mm[Hg]
+        // (derived, methods.md section 1; J Appl Physiol 1979;46:599-602).
+        Some(tension_from_saturation_result::Result::Response(r)) => {
+            assert!(r.provenance.is_none());
+            let po2 = r.po2.as_ref().unwrap().value;
+            assert!((po2 - 26.8568).abs() < 1e-3, "{po2}");
+        }
+        other => panic!("{other:?}"),
+    }
+    let refused = client
+        .batch_tension_from_saturation(BatchTensionFromSaturationRequest {
+            requests,
+            provenance_placement: 7,
+        })
+        .await
+        .unwrap_err();
+    let (violations, info) = refusal_of(&refused);
+    assert_eq!(violations[0].field, "provenance_placement");
+    assert_eq!(info.unwrap().0, "UNKNOWN_ENUM_VALUE");
     server.stop().await;
 }

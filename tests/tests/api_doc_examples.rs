@@ -120,6 +120,7 @@ fn batch_saturation_example() -> BatchSaturationFromTensionRequest {
     };
     BatchSaturationFromTensionRequest {
         requests: vec![item(88.0, "mm[Hg]"), item(54.0, "mmHg"), item(5.6, "kPa")],
+        ..Default::default()
     }
 }
 
@@ -130,6 +131,7 @@ fn batch_tension_example() -> BatchTensionFromSaturationRequest {
     };
     BatchTensionFromSaturationRequest {
         requests: vec![item(0.91), item(100.0), item(0.75)],
+        ..Default::default()
     }
 }
 

@@ -376,7 +376,10 @@ fn saturation_from_tension_and_its_batch_only_accept_or_name_a_field() {
         |h, requests| {
             h.runtime.block_on(async {
                 let count = requests.len();
-                let batch = BatchSaturationFromTensionRequest { requests };
+                let batch = BatchSaturationFromTensionRequest {
+                    requests,
+                    ..Default::default()
+                };
                 let result = h.dissociation().batch_saturation_from_tension(batch).await;
                 if let Some(response) = accepted_or_refused(result) {
                     assert_eq!(response.results.len(), count, "one result per item");
@@ -412,7 +415,10 @@ fn tension_from_saturation_and_its_batch_only_accept_or_name_a_field() {
         |h, requests| {
             h.runtime.block_on(async {
                 let count = requests.len();
-                let batch = BatchTensionFromSaturationRequest { requests };
+                let batch = BatchTensionFromSaturationRequest {
+                    requests,
+                    ..Default::default()
+                };
                 let result = h.dissociation().batch_tension_from_saturation(batch).await;
                 if let Some(response) = accepted_or_refused(result) {
                     assert_eq!(response.results.len(), count, "one result per item");

@@ -11,10 +11,11 @@ use oxbind_proto::v1::{
     BatchSaturationFromTensionResponse, BatchTensionFromSaturationRequest,
     BatchTensionFromSaturationResponse, BloodConditions, CorrectForTemperatureRequest,
     CorrectForTemperatureResponse, Curve, CurvePoint, CurveSpacing, EstimateP50Request,
-    EstimateP50Response, FactorContribution, Quantity, SampleCurveRequest, SampleCurveResponse,
-    SaturationFromTensionRequest, SaturationFromTensionResponse, SaturationFromTensionResult,
-    ShiftFactorsRequest, ShiftFactorsResponse, TensionFromSaturationRequest,
-    TensionFromSaturationResponse, TensionFromSaturationResult, UnitSystem, WarningCode,
+    EstimateP50Response, FactorContribution, InputUsed, ProvenancePlacement, Quantity,
+    SampleCurveRequest, SampleCurveResponse, SaturationFromTensionRequest,
+    SaturationFromTensionResponse, SaturationFromTensionResult, ShiftFactorsRequest,
+    ShiftFactorsResponse, TensionFromSaturationRequest, TensionFromSaturationResponse,
+    TensionFromSaturationResult, UnitSystem, WarningCode,
 };
 use tonic::{Request, Response, Status};
 
@@ -33,7 +34,7 @@ use super::{
 use crate::physiology::{
     conditions::{Condition, Conditions},
     error::{Input, PhysiologyError},
-    model::{DissociationModel, Model},
+    model::{DissociationModel, Model, ModelInfo},
     p50_estimation::{self, MeasuredPair, Standardisation},
     shift::{self, ShiftDirection},
     temperature::{self, BloodGasTemperatureInput},
@@ -142,28 +143,35 @@ impl DissociationService for DissociationApi {
         &self,
         request: Request<BatchSaturationFromTensionRequest>,
     ) -> Result<Response<BatchSaturationFromTensionResponse>, Status> {
-        let items = &request.get_ref().requests;
-        self.check_batch_size(items.len())?;
+        let request = request.get_ref();
+        self.check_batch_size(request.requests.len())?;
         crate::telemetry::record_batch_items(
             "oxbind.v1.DissociationService/BatchSaturationFromTension",
-            items.len() as u64,
+            request.requests.len() as u64,
         );
-        let results = items
+        let (placement, mut shared) = batch_placement(request.provenance_placement)?;
+        let results = request
+            .requests
             .iter()
             .enumerate()
-            .map(|(index, item)| SaturationFromTensionResult {
-                result: Some(match compute_saturation_from_tension(item) {
-                    Ok(response) => saturation_from_tension_result::Result::Response(response),
-                    Err(refusal) => {
-                        let refusal = refusal.within_item("requests", index);
-                        observe::refused_item(&refusal);
-                        saturation_from_tension_result::Result::Error(refusal.to_rpc_status())
-                    }
-                }),
-            })
+            .map(
+                |(index, item)| match saturation_from_tension(item, placement) {
+                    Ok((response, key)) => SaturationFromTensionResult {
+                        result: Some(saturation_from_tension_result::Result::Response(response)),
+                        shared_provenance_index: shared.index_for(placement, &key),
+                    },
+                    Err(refusal) => SaturationFromTensionResult {
+                        result: Some(saturation_from_tension_result::Result::Error(item_refusal(
+                            refusal, index,
+                        ))),
+                        shared_provenance_index: 0,
+                    },
+                },
+            )
             .collect();
         Ok(Response::new(BatchSaturationFromTensionResponse {
             results,
+            shared_provenance: shared.into_entries(),
         }))
     }
 
@@ -171,29 +179,144 @@ impl DissociationService for DissociationApi {
         &self,
         request: Request<BatchTensionFromSaturationRequest>,
     ) -> Result<Response<BatchTensionFromSaturationResponse>, Status> {
-        let items = &request.get_ref().requests;
-        self.check_batch_size(items.len())?;
+        let request = request.get_ref();
+        self.check_batch_size(request.requests.len())?;
         crate::telemetry::record_batch_items(
             "oxbind.v1.DissociationService/BatchTensionFromSaturation",
-            items.len() as u64,
+            request.requests.len() as u64,
         );
-        let results = items
+        let (placement, mut shared) = batch_placement(request.provenance_placement)?;
+        let results = request
+            .requests
             .iter()
             .enumerate()
-            .map(|(index, item)| TensionFromSaturationResult {
-                result: Some(match compute_tension_from_saturation(item) {
-                    Ok(response) => tension_from_saturation_result::Result::Response(response),
-                    Err(refusal) => {
-                        let refusal = refusal.within_item("requests", index);
-                        observe::refused_item(&refusal);
-                        tension_from_saturation_result::Result::Error(refusal.to_rpc_status())
-                    }
-                }),
-            })
+            .map(
+                |(index, item)| match tension_from_saturation(item, placement) {
+                    Ok((response, key)) => TensionFromSaturationResult {
+                        result: Some(tension_from_saturation_result::Result::Response(response)),
+                        shared_provenance_index: shared.index_for(placement, &key),
+                    },
+                    Err(refusal) => TensionFromSaturationResult {
+                        result: Some(tension_from_saturation_result::Result::Error(item_refusal(
+                            refusal, index,
+                        ))),
+                        shared_provenance_index: 0,
+                    },
+                },
+            )
             .collect();
         Ok(Response::new(BatchTensionFromSaturationResponse {
             results,
+            shared_provenance: shared.into_entries(),
         }))
+    }
+}
+
+/// The status of a refused batch item, its field paths prefixed by the
+/// item's place (`requests[3].po2.value`).
+fn item_refusal(refusal: InvalidRequest, index: usize) -> tonic_types::pb::Status {
+    let refusal = refusal.within_item("requests", index);
+    observe::refused_item(&refusal);
+    refusal.to_rpc_status()
+}
+
+/// The placement a batch asked for (its raw enum value), with an empty shared
+/// list; an unknown value refuses the batch.
+fn batch_placement(raw: i32) -> Result<(ItemProvenance, SharedProvenance), Status> {
+    let placement = match ProvenancePlacement::try_from(raw) {
+        Ok(ProvenancePlacement::Shared) => ItemProvenance::Shared,
+        Ok(ProvenancePlacement::Unspecified | ProvenancePlacement::EachItem) => {
+            ItemProvenance::Full
+        }
+        Err(_) => {
+            return Err(InvalidRequest::one(Violation::other(
+                &FieldPath::ROOT.field("provenance_placement"),
+                super::status::REASON_UNKNOWN_ENUM,
+                "not a known oxbind.v1.ProvenancePlacement value",
+            ))
+            .into_status())
+        }
+    };
+    Ok((placement, SharedProvenance::default()))
+}
+
+/// Whether a computed item carries its own full provenance or shares one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum ItemProvenance {
+    /// Full provenance, inputs_used included, on the item.
+    Full,
+    /// No provenance on the item; it names a shared entry.
+    Shared,
+}
+
+impl ItemProvenance {
+    /// The request reader this placement needs (recording inputs only when
+    /// they are reported).
+    fn reader(self, raw_unit_system: i32) -> RequestReader {
+        match self {
+            Self::Full => RequestReader::new(raw_unit_system),
+            Self::Shared => RequestReader::without_inputs_used(raw_unit_system),
+        }
+    }
+
+    /// The provenance the item's response carries.
+    fn item_provenance(
+        self,
+        key: &ProvenanceKey,
+        inputs_used: Vec<InputUsed>,
+    ) -> Option<oxbind_proto::v1::Provenance> {
+        match self {
+            Self::Full => Some(provenance::for_model(
+                key.model,
+                inputs_used,
+                key.within_validated_range,
+            )),
+            Self::Shared => None,
+        }
+    }
+}
+
+/// What tells one shared provenance entry from another.
+#[derive(Debug, Clone, Copy)]
+struct ProvenanceKey {
+    model: &'static ModelInfo,
+    within_validated_range: bool,
+}
+
+/// The shared provenance entries of one batch answer, in order of first use.
+#[derive(Debug, Default)]
+struct SharedProvenance {
+    keys: Vec<(&'static str, bool)>,
+    entries: Vec<oxbind_proto::v1::Provenance>,
+}
+
+impl SharedProvenance {
+    /// The index of `key`'s entry (added on first use) under `placement`;
+    /// 0 when items carry their own provenance.
+    fn index_for(&mut self, placement: ItemProvenance, key: &ProvenanceKey) -> u32 {
+        if placement == ItemProvenance::Full {
+            return 0;
+        }
+        let wanted = (key.model.id, key.within_validated_range);
+        let index = match self.keys.iter().position(|k| *k == wanted) {
+            Some(index) => index,
+            None => {
+                self.keys.push(wanted);
+                self.entries.push(provenance::for_model(
+                    key.model,
+                    Vec::new(),
+                    key.within_validated_range,
+                ));
+                self.keys.len() - 1
+            }
+        };
+        // At most two entries per model in the catalog: the cast cannot
+        // truncate.
+        index as u32
+    }
+
+    fn into_entries(self) -> Vec<oxbind_proto::v1::Provenance> {
+        self.entries
     }
 }
 
@@ -224,8 +347,17 @@ fn engine_refusal(error: &PhysiologyError, conditions: &str) -> InvalidRequest {
 pub fn compute_saturation_from_tension(
     request: &SaturationFromTensionRequest,
 ) -> Result<SaturationFromTensionResponse, InvalidRequest> {
+    saturation_from_tension(request, ItemProvenance::Full).map(|(response, _)| response)
+}
+
+/// SaturationFromTension for one request or batch item, with the provenance
+/// `placement` asks for, and the key of that provenance.
+fn saturation_from_tension(
+    request: &SaturationFromTensionRequest,
+    placement: ItemProvenance,
+) -> Result<(SaturationFromTensionResponse, ProvenanceKey), InvalidRequest> {
     let root = FieldPath::ROOT;
-    let mut reader = RequestReader::new(request.unit_system);
+    let mut reader = placement.reader(request.unit_system);
     let po2_path = root.field("po2");
     let po2 = reader.required_quantity(
         request.po2.as_ref(),
@@ -241,8 +373,9 @@ pub fn compute_saturation_from_tension(
     let po2 = po2.unwrap_or_default();
 
     let refuse = |e: PhysiologyError| engine_refusal(&e, "conditions");
-    let saturation = model.saturation(po2, &conditions).map_err(refuse)?;
-    let hill_slope = model.hill_slope(po2, &conditions).map_err(refuse)?;
+    let (saturation, hill_slope) = model
+        .saturation_and_slope(po2, &conditions)
+        .map_err(refuse)?;
     let p50 = model.p50_mmhg(&conditions).map_err(refuse)?;
 
     let mut found = Vec::new();
@@ -254,21 +387,37 @@ pub fn compute_saturation_from_tension(
         Some((Input::Po2, po2, &po2_path)),
         &mut found,
     );
-    Ok(SaturationFromTensionResponse {
-        saturation_fraction: saturation,
-        p50_at_conditions: Some(units::from_engine(p50, QuantityKind::Pressure, system)),
-        hill_slope,
-        provenance: Some(provenance::for_model(model.info(), inputs_used, inside)),
-        warnings: found,
-    })
+    let key = ProvenanceKey {
+        model: model.info(),
+        within_validated_range: inside,
+    };
+    Ok((
+        SaturationFromTensionResponse {
+            saturation_fraction: saturation,
+            p50_at_conditions: Some(units::from_engine(p50, QuantityKind::Pressure, system)),
+            hill_slope,
+            provenance: placement.item_provenance(&key, inputs_used),
+            warnings: found,
+        },
+        key,
+    ))
 }
 
 /// TensionFromSaturation for one request.
 pub fn compute_tension_from_saturation(
     request: &TensionFromSaturationRequest,
 ) -> Result<TensionFromSaturationResponse, InvalidRequest> {
+    tension_from_saturation(request, ItemProvenance::Full).map(|(response, _)| response)
+}
+
+/// TensionFromSaturation for one request or batch item, with the provenance
+/// `placement` asks for, and the key of that provenance.
+fn tension_from_saturation(
+    request: &TensionFromSaturationRequest,
+    placement: ItemProvenance,
+) -> Result<(TensionFromSaturationResponse, ProvenanceKey), InvalidRequest> {
     let root = FieldPath::ROOT;
-    let mut reader = RequestReader::new(request.unit_system);
+    let mut reader = placement.reader(request.unit_system);
     let saturation_path = root.field("saturation_fraction");
     let saturation = reader.number(
         request.saturation_fraction,
@@ -321,16 +470,23 @@ pub fn compute_tension_from_saturation(
         ));
     }
     let change = units::from_engine(change_per_percent_mmhg, QuantityKind::Pressure, system);
-    Ok(TensionFromSaturationResponse {
-        po2: Some(units::from_engine(po2, QuantityKind::Pressure, system)),
-        po2_change_per_percent: Some(Quantity {
-            value: change.value,
-            unit: format!("{}/%", change.unit),
-        }),
-        p50_at_conditions: Some(units::from_engine(p50, QuantityKind::Pressure, system)),
-        provenance: Some(provenance::for_model(model.info(), inputs_used, inside)),
-        warnings: found,
-    })
+    let key = ProvenanceKey {
+        model: model.info(),
+        within_validated_range: inside,
+    };
+    Ok((
+        TensionFromSaturationResponse {
+            po2: Some(units::from_engine(po2, QuantityKind::Pressure, system)),
+            po2_change_per_percent: Some(Quantity {
+                value: change.value,
+                unit: format!("{}/%", change.unit),
+            }),
+            p50_at_conditions: Some(units::from_engine(p50, QuantityKind::Pressure, system)),
+            provenance: placement.item_provenance(&key, inputs_used),
+            warnings: found,
+        },
+        key,
+    ))
 }
 
 /// SampleCurve for one request.

@@ -16,19 +16,37 @@ use crate::physiology::{
     model::Model,
 };
 
+/// Room for the inputs a request usually records (a curve input, the model's
+/// parameters and the eight blood conditions), so the list rarely grows.
+const INPUTS_USED_CAPACITY: usize = 12;
+
 /// Collects the inputs of one request (or one batch item).
 #[derive(Debug)]
 pub struct RequestReader {
     system: UnitSystem,
     violations: Vec<Violation>,
     inputs_used: Vec<InputUsed>,
+    records_inputs: bool,
 }
 
 impl RequestReader {
     /// A reader reporting inputs in the request's `unit_system` (its raw enum
     /// value; UNSPECIFIED means conventional, an unknown value is refused).
     pub fn new(raw_unit_system: i32) -> Self {
-        let mut reader = Self::in_system(UnitSystem::Conventional);
+        Self::reading(raw_unit_system, true)
+    }
+
+    fn reading(raw_unit_system: i32, records_inputs: bool) -> Self {
+        let mut reader = Self {
+            system: UnitSystem::Conventional,
+            violations: Vec::new(),
+            inputs_used: if records_inputs {
+                Vec::with_capacity(INPUTS_USED_CAPACITY)
+            } else {
+                Vec::new()
+            },
+            records_inputs,
+        };
         match UnitSystem::try_from(raw_unit_system) {
             Ok(UnitSystem::Si) => reader.system = UnitSystem::Si,
             Ok(_) => {}
@@ -46,8 +64,16 @@ impl RequestReader {
         Self {
             system,
             violations: Vec::new(),
-            inputs_used: Vec::with_capacity(12),
+            inputs_used: Vec::with_capacity(INPUTS_USED_CAPACITY),
+            records_inputs: true,
         }
+    }
+
+    /// A reader like [`RequestReader::new`] that validates and converts but
+    /// does not record the inputs used: [`RequestReader::finish`] gives an
+    /// empty list. For batch items whose provenance is shared.
+    pub fn without_inputs_used(raw_unit_system: i32) -> Self {
+        Self::reading(raw_unit_system, false)
     }
 
     /// The unit system responses are reported in.
@@ -320,6 +346,9 @@ impl RequestReader {
         kind: QuantityKind,
         defaulted: bool,
     ) {
+        if !self.records_inputs {
+            return;
+        }
         self.inputs_used.push(InputUsed {
             name: path.render(),
             value: Some(units::from_engine(value, kind, self.system)),
@@ -329,6 +358,9 @@ impl RequestReader {
 
     /// Record a value with an explicit unit code.
     pub fn record_raw(&mut self, path: &FieldPath<'_>, value: f64, unit: &str, defaulted: bool) {
+        if !self.records_inputs {
+            return;
+        }
         self.inputs_used.push(InputUsed {
             name: path.render(),
             value: Some(Quantity {
