@@ -659,3 +659,47 @@ fn p50_estimation_refuses_uninformative_pairs() {
         Err(PhysiologyError::NotInformative { .. })
     ));
 }
+
+/// The combined saturation-and-slope path gives the two separate results, to
+/// rounding, for every model, with and without shifted conditions and COHb
+/// (an internal consistency check: both paths evaluate the same equations).
+#[test]
+fn saturation_and_slope_together_match_the_separate_calls() {
+    let shifted = Conditions {
+        ph: Some(7.25),
+        pco2_mmhg: Some(55.0),
+        temperature_celsius: Some(39.0),
+        base_excess_mmol_per_l: Some(-4.0),
+        ..Conditions::STANDARD
+    };
+    let with_cohb = Conditions {
+        cohb_fraction: Some(0.1),
+        ..shifted
+    };
+    for model in all_models() {
+        for conditions in [Conditions::STANDARD, shifted, with_cohb] {
+            for po2 in [0.5, 5.0, 20.0, 27.0, 40.0, 75.0, 100.0, 300.0, 2000.0] {
+                let id = model.info().id;
+                let together = model.saturation_and_slope(po2, &conditions);
+                let (Ok(s_alone), Ok(n_alone)) = (
+                    model.saturation(po2, &conditions),
+                    model.hill_slope(po2, &conditions),
+                ) else {
+                    // Outside a model's domain (Kelman below about 4.7 mmHg)
+                    // both paths refuse.
+                    assert!(together.is_err(), "{id} at {po2}: {together:?}");
+                    continue;
+                };
+                let (s, n) = together.expect("the separate calls computed");
+                assert!(
+                    (s - s_alone).abs() <= 1e-12 * s_alone.max(1e-300) + 1e-15,
+                    "{id} S at {po2}: {s} vs {s_alone}"
+                );
+                assert!(
+                    (n - n_alone).abs() <= 1e-12 * n_alone.abs() + 1e-15,
+                    "{id} slope at {po2}: {n} vs {n_alone}"
+                );
+            }
+        }
+    }
+}

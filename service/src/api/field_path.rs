@@ -2,7 +2,7 @@
 //! built without allocation and rendered only when an error or warning needs
 //! the text.
 
-use std::fmt;
+use std::fmt::{self, Write as _};
 
 /// One step of a path: a field name, or a field name with a repeated index.
 #[derive(Debug, Clone, Copy)]
@@ -45,33 +45,37 @@ impl<'a> FieldPath<'a> {
         }
     }
 
-    /// The rendered path.
+    /// The rendered path (built by appending the steps, without the
+    /// formatting machinery: it runs for every recorded input).
     pub fn render(&self) -> String {
-        self.to_string()
+        let mut out = String::with_capacity(32);
+        self.append_to(&mut out);
+        out
     }
 
-    fn write_steps(&self, f: &mut fmt::Formatter<'_>) -> Result<bool, fmt::Error> {
-        let wrote_parent = match self.parent {
-            Some(parent) => parent.write_steps(f)?,
-            None => false,
-        };
+    fn append_to(&self, out: &mut String) {
+        if let Some(parent) = self.parent {
+            parent.append_to(out);
+        }
         let Some(step) = self.step else {
-            return Ok(wrote_parent);
+            return;
         };
-        if wrote_parent {
-            f.write_str(".")?;
+        if !out.is_empty() {
+            out.push('.');
         }
         match step {
-            Step::Field(name) => f.write_str(name)?,
-            Step::Indexed(name, index) => write!(f, "{name}[{index}]")?,
+            Step::Field(name) => out.push_str(name),
+            Step::Indexed(name, index) => {
+                // Writing to a String cannot fail.
+                let _ = write!(out, "{name}[{index}]");
+            }
         }
-        Ok(true)
     }
 }
 
 impl fmt::Display for FieldPath<'_> {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        self.write_steps(f).map(|_| ())
+        f.write_str(&self.render())
     }
 }
 

@@ -47,13 +47,16 @@ pub fn unmodelled_conditions(
     out: &mut Vec<Warning>,
 ) {
     for condition in model.unmodelled_conditions(conditions) {
+        // Appended rather than formatted: in a batch this runs for many items.
+        let mut message = String::with_capacity(96);
+        message.push_str("model ");
+        message.push_str(model.info().id);
+        message
+            .push_str(" does not take this condition into account; it did not affect the result");
         out.push(warning(
             WarningCode::ConditionNotModelled,
             path.field(condition_field(condition)).render(),
-            format!(
-                "model {} does not take this condition into account; it did not affect the result",
-                model.info().id
-            ),
+            message,
         ));
     }
 }
@@ -85,10 +88,10 @@ pub fn validated_ranges(
     let info = model.info();
     let mut inside = true;
     for range in info.validated_ranges {
-        let (value, field) =
-            if let Some((input, value, path)) = point.filter(|p| p.0 == range.input) {
-                let _ = input;
-                (value, path.render())
+        // The field path is rendered only for a warning.
+        let (value, condition_path, point_path) =
+            if let Some((_, value, path)) = point.filter(|p| p.0 == range.input) {
+                (value, None, Some(path))
             } else if let Some(condition) = Condition::ALL
                 .iter()
                 .copied()
@@ -96,13 +99,19 @@ pub fn validated_ranges(
             {
                 (
                     condition_value(conditions, condition),
-                    conditions_path.field(condition_field(condition)).render(),
+                    Some(condition_field(condition)),
+                    None,
                 )
             } else {
                 continue;
             };
         if value < range.min || value > range.max {
             inside = false;
+            let field = match (point_path, condition_path) {
+                (Some(path), _) => path.render(),
+                (None, Some(name)) => conditions_path.field(name).render(),
+                (None, None) => String::new(),
+            };
             out.push(warning(
                 WarningCode::OutsideValidatedRange,
                 field,

@@ -103,6 +103,21 @@ pub trait DissociationModel {
         conditions: &Conditions,
     ) -> Result<f64, PhysiologyError>;
 
+    /// Functional saturation and Hill slope at `po2_mmhg` (> 0) together: the
+    /// same values as [`Self::saturation`] and [`Self::hill_slope`] (to
+    /// rounding), with the curve prepared once and, where the model allows,
+    /// evaluated once.
+    fn saturation_and_slope(
+        &self,
+        po2_mmhg: f64,
+        conditions: &Conditions,
+    ) -> Result<(f64, f64), PhysiologyError> {
+        Ok((
+            self.saturation(po2_mmhg, conditions)?,
+            self.hill_slope(po2_mmhg, conditions)?,
+        ))
+    }
+
     /// P50 (mmHg): the PO2 at which the functional saturation is 0.5.
     fn p50_mmhg(&self, conditions: &Conditions) -> Result<f64, PhysiologyError> {
         self.tension_mmhg(0.5, conditions)
@@ -309,6 +324,24 @@ pub(crate) fn slope_through<C: Curve>(
     }
 }
 
+/// Saturation and Hill slope through a prepared curve: one evaluation of
+/// logit and slope without COHb, the two separate paths with it.
+pub(crate) fn saturation_and_slope_through<C: Curve>(
+    curve: &C,
+    po2_mmhg: f64,
+    conditions: &Conditions,
+) -> Result<(f64, f64), PhysiologyError> {
+    if carbon_monoxide_share(curve, conditions).is_some() {
+        return Ok((
+            saturation_through(curve, po2_mmhg, conditions)?,
+            slope_through(curve, po2_mmhg, conditions)?,
+        ));
+    }
+    let p = check_positive_po2(po2_mmhg)?;
+    let (logit, slope) = curve.logit_and_slope(p)?;
+    Ok((logistic(logit), slope))
+}
+
 /// COHb as a share of the haemoglobin that is not oxidised to MetHb, when positive.
 #[inline]
 fn carbon_monoxide_share<C: Curve>(curve: &C, conditions: &Conditions) -> Option<f64> {
@@ -360,6 +393,16 @@ macro_rules! impl_dissociation_model {
             ) -> Result<f64, $crate::physiology::error::PhysiologyError> {
                 let curve = self.at(conditions)?;
                 $crate::physiology::model::logit_through(&curve, po2_mmhg, conditions)
+            }
+            fn saturation_and_slope(
+                &self,
+                po2_mmhg: f64,
+                conditions: &$crate::physiology::conditions::Conditions,
+            ) -> Result<(f64, f64), $crate::physiology::error::PhysiologyError> {
+                let curve = self.at(conditions)?;
+                $crate::physiology::model::saturation_and_slope_through(
+                    &curve, po2_mmhg, conditions,
+                )
             }
         }
     };
@@ -433,6 +476,14 @@ impl DissociationModel for Model {
         conditions: &Conditions,
     ) -> Result<f64, PhysiologyError> {
         dispatch!(self, m => m.logit_saturation(po2_mmhg, conditions))
+    }
+    #[inline]
+    fn saturation_and_slope(
+        &self,
+        po2_mmhg: f64,
+        conditions: &Conditions,
+    ) -> Result<(f64, f64), PhysiologyError> {
+        dispatch!(self, m => m.saturation_and_slope(po2_mmhg, conditions))
     }
     fn unmodelled_conditions(&self, conditions: &Conditions) -> ConditionSet {
         dispatch!(self, m => m.unmodelled_conditions(conditions))

@@ -292,6 +292,13 @@ fn temperature_map(u: f64, delta_celsius: f64) -> Result<f64, PhysiologyError> {
     let (x, y) = (u + EQ3_B * delta_celsius, u + EQ3_A * delta_celsius);
     let margin = 1e-9 * (1.0 + u.abs());
     let (lo, hi) = (x.min(y) - margin, x.max(y) + margin);
+    // Start from the second-order Taylor step of d ln P/dT = g: ln P moves by
+    // g·ΔT + g·g'·ΔT²/2, with g' = dg/d ln P = 3.88·w·(b - a)/(1 + w)²; Newton
+    // then needs fewer steps than from the first-order one.
+    let w = eq3_ln_w(u).exp();
+    let g = (EQ3_A + EQ3_B * w) / (1.0 + w);
+    let dg = EQ3_EXPONENT * w * (EQ3_B - EQ3_A) / ((1.0 + w) * (1.0 + w));
+    let guess = u + g * delta_celsius + 0.5 * g * dg * delta_celsius * delta_celsius;
     solve_increasing(
         |v| {
             let (phi, dphi) = eq3_phi(v);
@@ -299,7 +306,7 @@ fn temperature_map(u: f64, delta_celsius: f64) -> Result<f64, PhysiologyError> {
         },
         lo,
         hi,
-        u + eq3_g(u) * delta_celsius,
+        guess,
         PhysiologyError::OutsideModelDomain {
             input: Input::Temperature,
             value: delta_celsius,
