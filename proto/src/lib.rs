@@ -11,6 +11,7 @@ pub mod v1 {
     tonic::include_proto!("oxbind.v1");
 }
 
+pub mod codec;
 mod conditions;
 mod quantity;
 

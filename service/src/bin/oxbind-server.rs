@@ -8,6 +8,13 @@ use oxbind_service::{
     telemetry, ServeError,
 };
 
+/// The process allocator: mimalloc, whose thread-local free lists cost far
+/// less than the system allocator for the many small, short-lived blocks of
+/// decoded requests and built answers (see BENCHMARKS.md, "Where the time
+/// goes").
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 #[tokio::main]
 async fn main() {
     let config = Config::from_env_and_args();
