@@ -27,19 +27,25 @@ use clap::{Args, ValueEnum};
 use hdrhistogram::Histogram;
 use oxbind_client::{
     code_name,
-    health::{health_client::HealthClient, HealthCheckRequest},
+    health::HealthCheckRequest,
     v1::{
-        dissociation_service_client::DissociationServiceClient,
-        saturation_from_tension_result::Result as ItemOutcome, BatchSaturationFromTensionRequest,
-        BloodConditions, Quantity, SaturationFromTensionRequest,
+        BatchSaturationFromTensionRequest, BloodConditions, ProvenancePlacement, Quantity,
+        SaturationFromTensionRequest,
     },
     Code,
 };
-use prost::Message;
+use prost::bytes::Bytes;
 use serde_json::json;
-use tonic::transport::{Channel, Endpoint};
+use tonic::{
+    codegen::http::uri::PathAndQuery,
+    transport::{Channel, Endpoint},
+};
 
-use crate::{failure::Failure, output};
+use crate::{
+    failure::Failure,
+    load_wire::{self, BadAnswer, EncodedCodec},
+    output,
+};
 
 /// Flags of `oxbind load`.
 #[derive(Debug, Clone, Args)]
@@ -62,6 +68,10 @@ pub(crate) struct LoadArgs {
     /// Items per call with `--rpc batch-saturation`.
     #[arg(long, default_value_t = 1000, value_parser = clap::value_parser!(u32).range(1..=100_000))]
     pub(crate) items: u32,
+    /// With `--rpc batch-saturation`: ask for the provenance once per batch
+    /// answer (`PROVENANCE_PLACEMENT_SHARED`) instead of on each item.
+    #[arg(long)]
+    pub(crate) shared_provenance: bool,
     /// Stop after this many measured calls in all, even if the window is not over.
     #[arg(long, value_name = "COUNT")]
     pub(crate) max_calls: Option<u64>,
@@ -95,6 +105,15 @@ pub(crate) enum LoadRpc {
 }
 
 impl LoadRpc {
+    /// The HTTP/2 path of the RPC.
+    fn path(self) -> &'static str {
+        match self {
+            LoadRpc::Saturation => "/oxbind.v1.DissociationService/SaturationFromTension",
+            LoadRpc::BatchSaturation => "/oxbind.v1.DissociationService/BatchSaturationFromTension",
+            LoadRpc::Health => "/grpc.health.v1.Health/Check",
+        }
+    }
+
     fn method(self) -> &'static str {
         match self {
             LoadRpc::Saturation => "oxbind.v1.DissociationService/SaturationFromTension",
@@ -118,6 +137,14 @@ const MAX_WINDOW_SECONDS: f64 = 600.0;
 /// Largest latency the histogram records, in microseconds (one minute);
 /// longer calls are recorded as this value.
 const MAX_LATENCY_MICROS: u64 = 60_000_000;
+
+/// Distinct single-call requests each task builds before its first call and
+/// sends in turn.
+const SINGLE_REQUESTS_PER_TASK: usize = 1024;
+
+/// Batch items each task builds before its first call (as 2 to 16 distinct
+/// batches of `--items`), sent in turn.
+const BATCH_ITEMS_PER_TASK: usize = 50_000;
 
 /// Significant decimal digits the latency histogram keeps.
 const HISTOGRAM_SIGFIGS: u8 = 3;
@@ -386,6 +413,11 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
             rng: fastrand::Rng::with_seed(args.seed.wrapping_add(u64::from(i))),
             model: ctx.model,
             items: args.items,
+            placement: if args.shared_provenance {
+                ProvenancePlacement::Shared
+            } else {
+                ProvenancePlacement::EachItem
+            },
             timeout: ctx.timeout,
             max_decoding: args.max_decoding_message_bytes,
             measure_from,
@@ -463,6 +495,7 @@ struct Task {
     rng: fastrand::Rng,
     model: i32,
     items: u32,
+    placement: ProvenancePlacement,
     timeout: Duration,
     max_decoding: usize,
     measure_from: Instant,
@@ -479,64 +512,38 @@ impl Task {
             latency_micros: new_histogram(),
             sizes: None,
         };
-        let mut dissociation = DissociationServiceClient::new(self.channel.clone())
+        // Built before the first call, so that the window measures calls, not
+        // the generator.
+        let pool = self.encoded_requests();
+        let path = PathAndQuery::from_static(self.rpc.path());
+        let mut grpc = tonic::client::Grpc::new(self.channel.clone())
             .max_decoding_message_size(self.max_decoding)
             .max_encoding_message_size(usize::MAX);
-        let mut health = HealthClient::new(self.channel.clone());
-        loop {
+        for body in pool.iter().cycle() {
             let sent = Instant::now();
             if sent >= self.measure_until {
                 break;
             }
-            let outcome: Result<(), Code> = match self.rpc {
-                LoadRpc::Health => {
-                    let mut request = tonic::Request::new(HealthCheckRequest {
-                        service: String::new(),
-                    });
-                    request.set_timeout(self.timeout);
-                    health
-                        .check(request)
-                        .await
-                        .map(|_| ())
-                        .map_err(|s| s.code())
-                }
-                LoadRpc::Saturation => {
-                    let mut request = tonic::Request::new(self.saturation_request());
-                    request.set_timeout(self.timeout);
-                    dissociation
-                        .saturation_from_tension(request)
-                        .await
-                        .map(|_| ())
-                        .map_err(|s| s.code())
-                }
-                LoadRpc::BatchSaturation => {
-                    let batch = BatchSaturationFromTensionRequest {
-                        requests: (0..self.items).map(|_| self.saturation_request()).collect(),
-                    };
-                    let request_len = if tally.sizes.is_none() {
-                        batch.encoded_len()
-                    } else {
-                        0
-                    };
-                    let mut request = tonic::Request::new(batch);
-                    request.set_timeout(self.timeout);
-                    match dissociation.batch_saturation_from_tension(request).await {
-                        Ok(response) => {
-                            let response = response.into_inner();
-                            if tally.sizes.is_none() {
-                                tally.sizes = Some((request_len, response.encoded_len()));
-                            }
-                            if Instant::now() >= self.measure_from {
-                                self.tally_items(&mut tally, &response.results);
-                            }
-                            Ok(())
-                        }
-                        Err(status) => Err(status.code()),
-                    }
-                }
+            let mut request = tonic::Request::new(body.clone());
+            request.set_timeout(self.timeout);
+            let answer = match grpc.ready().await {
+                Ok(()) => grpc
+                    .unary(request, path.clone(), EncodedCodec)
+                    .await
+                    .map(tonic::Response::into_inner)
+                    .map_err(|s| code_name(s.code())),
+                Err(_) => Err(code_name(Code::Unavailable)),
             };
             let done = Instant::now();
-            if done < self.measure_from || done > self.measure_until {
+            let measured = done >= self.measure_from && done <= self.measure_until;
+            let outcome = answer.and_then(|answer| {
+                if tally.sizes.is_none() {
+                    tally.sizes = Some((body.len(), answer.len()));
+                }
+                self.check(&answer, measured.then_some(&mut tally.item_errors))
+                    .map_err(BadAnswer::label)
+            });
+            if !measured {
                 continue;
             }
             let counted = self
@@ -554,30 +561,61 @@ impl Task {
                     let micros = u64::try_from((done - sent).as_micros()).unwrap_or(u64::MAX);
                     tally.latency_micros.saturating_record(micros.max(1));
                 }
-                Err(code) => *tally.errors.entry(code_name(code)).or_default() += 1,
+                Err(label) => *tally.errors.entry(label).or_default() += 1,
             }
         }
         tally
     }
 
-    fn tally_items(
-        &self,
-        tally: &mut TaskTally,
-        results: &[oxbind_client::v1::SaturationFromTensionResult],
-    ) {
-        if results.len() != self.items as usize {
-            *tally.item_errors.entry("WRONG_RESULT_COUNT").or_default() += 1;
+    /// The task's distinct requests, encoded: [`SINGLE_REQUESTS_PER_TASK`]
+    /// single calls, or enough batches for [`BATCH_ITEMS_PER_TASK`] items
+    /// (at least two).
+    fn encoded_requests(&mut self) -> Vec<Bytes> {
+        match self.rpc {
+            LoadRpc::Health => vec![load_wire::encode(&HealthCheckRequest {
+                service: String::new(),
+            })],
+            LoadRpc::Saturation => (0..SINGLE_REQUESTS_PER_TASK)
+                .map(|_| load_wire::encode(&self.saturation_request()))
+                .collect(),
+            LoadRpc::BatchSaturation => {
+                let batches = (BATCH_ITEMS_PER_TASK / self.items as usize).clamp(2, 16);
+                (0..batches)
+                    .map(|_| {
+                        load_wire::encode(&BatchSaturationFromTensionRequest {
+                            requests: (0..self.items).map(|_| self.saturation_request()).collect(),
+                            provenance_placement: self.placement as i32,
+                        })
+                    })
+                    .collect()
+            }
         }
-        for result in results {
-            match &result.result {
-                Some(ItemOutcome::Response(_)) => {}
-                Some(ItemOutcome::Error(status)) => {
-                    *tally
-                        .item_errors
-                        .entry(code_name(Code::from(status.code)))
-                        .or_default() += 1;
+    }
+
+    /// Check one answer; a batch's refused items are counted in
+    /// `item_errors` when given.
+    fn check(
+        &self,
+        answer: &[u8],
+        item_errors: Option<&mut BTreeMap<&'static str, u64>>,
+    ) -> Result<(), BadAnswer> {
+        match self.rpc {
+            LoadRpc::Health => load_wire::check_health_response(answer),
+            LoadRpc::Saturation => load_wire::check_saturation_response(answer),
+            LoadRpc::BatchSaturation => {
+                let items = load_wire::check_batch_response(answer)?;
+                if let Some(errors) = item_errors {
+                    if items.items() != u64::from(self.items) {
+                        *errors.entry("WRONG_RESULT_COUNT").or_default() += 1;
+                    }
+                    for code in &items.refused {
+                        *errors.entry(code_name(*code)).or_default() += 1;
+                    }
+                    if items.bad > 0 {
+                        *errors.entry(BadAnswer::Unexpected.label()).or_default() += items.bad;
+                    }
                 }
-                None => *tally.item_errors.entry("EMPTY_RESULT").or_default() += 1,
+                Ok(())
             }
         }
     }

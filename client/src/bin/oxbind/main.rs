@@ -11,6 +11,7 @@ mod commands;
 mod demo;
 mod failure;
 mod load;
+mod load_wire;
 mod output;
 mod plot;
 
