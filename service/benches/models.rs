@@ -1,5 +1,6 @@
 //! Criterion benchmarks of the dissociation models: every model's forward and
-//! inverse (standard conditions and a full set of conditions), P50 and shift factors.
+//! inverse (standard conditions and a full set of conditions), saturation with
+//! the Hill slope, P50 and shift factors.
 //!
 //! Targets (issue 3, 2-core machine): closed-form forward <= 50 ns, Dash 2016
 //! forward <= 150 ns, every inverse <= 1 µs. Figures are recorded in
@@ -61,6 +62,10 @@ fn forward(c: &mut Criterion) {
         });
         c.bench_function(&format!("forward/{id}/cohb"), |b| {
             b.iter(|| model.saturation(black_box(47.3), black_box(&WITH_COHB)))
+        });
+        // What a SaturationFromTension item needs besides the P50.
+        c.bench_function(&format!("saturation_and_slope/{id}/shifted"), |b| {
+            b.iter(|| model.saturation_and_slope(black_box(47.3), black_box(&SHIFTED)))
         });
     }
 }

@@ -19,7 +19,7 @@ use oxbind_client::v1::{
 };
 use oxbind_client::v1::{
     saturation_from_tension_result, tension_from_saturation_result, HillPreset, Provenance,
-    Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
+    ProvenancePlacement, Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
 };
 use oxbind_tests::{q, TestServer};
 use prost::Message;
@@ -603,6 +603,43 @@ writes it `mm[Hg]`); accepted UCUM codes (case-sensitive): mm[Hg], kPa";
             ("violation_count", "1"),
         ],
     );
+    server.stop().await;
+}
+
+/// API.md 7.7, "Provenance once per batch": the same three rows with
+/// PROVENANCE_PLACEMENT_SHARED.
+#[tokio::test]
+async fn shared_provenance_batch_example_is_true() {
+    let server = TestServer::start().await;
+    let mut request = batch_saturation_example();
+    request.provenance_placement = ProvenancePlacement::Shared as i32;
+    let r = dissociation(&server)
+        .await
+        .batch_saturation_from_tension(request)
+        .await
+        .expect("computes")
+        .into_inner();
+    assert_eq!(r.results.len(), 3);
+    for (index, saturation, slope) in [(0, "0.96741", "2.9620"), (2, "0.77458", "2.8433")] {
+        let Some(saturation_from_tension_result::Result::Response(response)) =
+            &r.results[index].result
+        else {
+            panic!("item {index}: {:?}", r.results[index]);
+        };
+        printed(response.saturation_fraction, saturation);
+        quantity(&response.p50_at_conditions, "26.857", "mm[Hg]");
+        printed(response.hill_slope, slope);
+        assert!(response.provenance.is_none());
+        assert_eq!(r.results[index].shared_provenance_index, 0);
+    }
+    assert!(matches!(
+        r.results[1].result,
+        Some(saturation_from_tension_result::Result::Error(_))
+    ));
+    assert_eq!(r.shared_provenance.len(), 1);
+    let entry = Some(r.shared_provenance[0].clone());
+    model_of(&entry, "severinghaus-1979", "1.0.0", true);
+    assert!(r.shared_provenance[0].inputs_used.is_empty());
     server.stop().await;
 }
 

@@ -2,9 +2,14 @@
 //!
 //! `--in-flight` tasks share `--connections` HTTP/2 connections (one tonic
 //! channel each, task `i` on connection `i mod C`). Each task sends one
-//! call, waits for the answer, and sends the next, with inputs drawn from
-//! its own seeded generator (so every call differs and a run can be
-//! repeated). Calls that finish during `--warm-up` are not counted; the
+//! call, waits for the answer, and sends the next. Before the first call each
+//! task draws its own distinct requests from its seeded generator (1,024
+//! single calls, or 50,000 batch items as 2 to 16 batches) and encodes them
+//! once; it then sends them in turn, so every call in a row differs, a run can
+//! be repeated, and the generator's own work stays out of the window. Each
+//! answer is checked on the wire (`load_wire`): a saturation strictly inside
+//! (0, 1), each batch item a checked response or an error counted by code,
+//! health SERVING. Calls that finish during `--warm-up` are not counted; the
 //! measured window is `--duration` long and each task stops sending when it
 //! ends (its last call is awaited, bounded by `--timeout`, and not counted).
 //! `--max-calls` bounds the count as well. With `--baseline`,
@@ -68,6 +73,10 @@ pub(crate) struct LoadArgs {
     /// Items per call with `--rpc batch-saturation`.
     #[arg(long, default_value_t = 1000, value_parser = clap::value_parser!(u32).range(1..=100_000))]
     pub(crate) items: u32,
+    /// Send only a PO2 per call or item (standard conditions), instead of a
+    /// full blood gas: separates the cost of the conditions from the rest.
+    #[arg(long)]
+    pub(crate) po2_only: bool,
     /// With `--rpc batch-saturation`: ask for the provenance once per batch
     /// answer (`PROVENANCE_PLACEMENT_SHARED`) instead of on each item.
     #[arg(long)]
@@ -413,6 +422,7 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
             rng: fastrand::Rng::with_seed(args.seed.wrapping_add(u64::from(i))),
             model: ctx.model,
             items: args.items,
+            po2_only: args.po2_only,
             placement: if args.shared_provenance {
                 ProvenancePlacement::Shared
             } else {
@@ -496,6 +506,7 @@ struct Task {
     model: i32,
     items: u32,
     placement: ProvenancePlacement,
+    po2_only: bool,
     timeout: Duration,
     max_decoding: usize,
     measure_from: Instant,
@@ -632,6 +643,13 @@ impl Task {
         } else {
             Quantity::mm_hg(po2_mmhg)
         };
+        if self.po2_only {
+            return SaturationFromTensionRequest {
+                po2: Some(po2),
+                model: self.model,
+                ..Default::default()
+            };
+        }
         let mut conditions = BloodConditions::standard()
             .with_ph(7.20 + 0.35 * rng.f64())
             .with_pco2(Quantity::mm_hg(25.0 + 40.0 * rng.f64()))
