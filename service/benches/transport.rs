@@ -75,10 +75,10 @@ fn temperature(c: &mut Criterion) {
     c.bench_function("temperature/PCO2 37 -> 33", |b| {
         b.iter(|| correct_pco2_mmhg(black_box(40.0), black_box(37.0), black_box(33.0)))
     });
-    c.bench_function("temperature/PO2 37 -> 33 (16 RK4 steps)", |b| {
+    c.bench_function("temperature/PO2 37 -> 33 (exact Eq. 3 map)", |b| {
         b.iter(|| correct_po2_mmhg(black_box(80.0), black_box(37.0), black_box(33.0)))
     });
-    c.bench_function("temperature/PO2 37 -> 20 (68 RK4 steps)", |b| {
+    c.bench_function("temperature/PO2 37 -> 20 (exact Eq. 3 map)", |b| {
         b.iter(|| correct_po2_mmhg(black_box(80.0), black_box(37.0), black_box(20.0)))
     });
     let gas = BloodGasTemperatureInput {

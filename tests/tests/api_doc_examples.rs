@@ -537,7 +537,7 @@ async fn correct_for_temperature_example_is_true() {
     printed(r.ph.expect("pH corrected"), "7.3767");
     quantity(&r.pco2, "36.936", "mm[Hg]");
     quantity(&r.po2, "73.388", "mm[Hg]");
-    model_of(&r.provenance, "", "1", true);
+    model_of(&r.provenance, "", "2", true);
     inputs_used(
         &r.provenance,
         &[

@@ -9,10 +9,10 @@
 //!
 //! Every correction in this module is exactly reversible in its own terms:
 //! correcting from A to B and then from B to A returns the starting value (to
-//! rounding for pH and PCO2, to the integration error stated below for PO2).
+//! rounding for pH and PCO2, to the solver's tolerance for PO2).
 
 use super::error::{require_positive, require_within, Input, PhysiologyError};
-use super::severinghaus::po2_temperature_coefficient_ln_per_celsius;
+use super::severinghaus::{self, po2_temperature_coefficient_ln_per_celsius};
 
 /// The reference temperature of the published coefficients and of blood-gas
 /// analysers, °C (common practice).
@@ -76,17 +76,6 @@ pub const PCO2_COEFFICIENT_NUNN_1965_LOG10_PER_CELSIUS: f64 = 0.019;
 /// doi:10.1152/jappl.1956.9.2.201 (value verified in the abstract,
 /// methods.md section 8 tag \[V\]).
 pub const PCO2_COEFFICIENT_BRADLEY_1956_LOG10_PER_CELSIUS: f64 = 0.0185;
-
-/// Largest temperature step, °C, of the PO2 integration.
-///
-/// The PO2 coefficient of Severinghaus 1979 Eq. 3 changes with PO2, so PO2 is
-/// carried along d ln PO2 / dT = fT(PO2) by the classical fourth-order
-/// Runge–Kutta method in steps of at most this size. With 0.25 °C steps the
-/// worst relative error found over PO2 5–2000 mmHg and every temperature from
-/// 10 to 45 °C, against a 0.002 °C reference integration, was 4.2e-10
-/// (0.5 °C steps: 6.7e-9; 1 °C: 1.1e-7) — derived from Eq. 3. That is
-/// far below analyser resolution, and a 4 °C correction costs only 16 steps.
-pub const PO2_INTEGRATION_MAX_STEP_CELSIUS: f64 = 0.25;
 
 /// Which pH temperature correction to apply.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
@@ -370,7 +359,7 @@ pub fn correct_pco2_with_mmhg(
 
 /// Carry a PO2 from the temperature it was measured at to another by
 /// integrating the PO2-dependent temperature coefficient of Severinghaus 1979
-/// Eq. 3 in small steps.
+/// Eq. 3 exactly.
 ///
 /// # Formula
 ///
@@ -378,11 +367,10 @@ pub fn correct_pco2_with_mmhg(
 /// d ln PO2 / dT = fT(PO2) = 0.058 / ( 0.243·(PO2/100)^3.88 + 1 ) + 0.013     (per °C)
 /// ```
 ///
-/// integrated from `T1` = `measured_celsius` to `T2` = `target_celsius` in
-/// `n = ceil(|T2 − T1| / 0.25 °C)` equal steps of the classical fourth-order
-/// Runge–Kutta method in `y = ln PO2` (see
-/// [`PO2_INTEGRATION_MAX_STEP_CELSIUS`] for the step and why). For
-/// |T2 − T1| ≤ 0.25 °C this is a single step.
+/// integrated exactly from `T1` = `measured_celsius` to `T2` =
+/// `target_celsius` by [`severinghaus::po2_at_temperature_mmhg`] (the
+/// closed-form antiderivative of 1/fT, solved for PO2(T2) by Newton's
+/// method; the same map the Severinghaus model uses for its own temperature).
 ///
 /// * `po2_mmhg` — PO2 at `T1`, mmHg
 /// * `fT` — per °C (natural log), from
@@ -392,8 +380,8 @@ pub fn correct_pco2_with_mmhg(
 ///
 /// Severinghaus JW. Simple, accurate equations for human blood O2
 /// dissociation computations. *J Appl Physiol: Respir Environ Exerc Physiol*
-/// 1979;46(3):599–602, doi:10.1152/jappl.1979.46.3.599, Eq. 3. The
-/// step-wise integration is ours (methods.md section 8: a single step
+/// 1979;46(3):599–602, doi:10.1152/jappl.1979.46.3.599, Eq. 3. The exact
+/// integration is derived from Eq. 3 (methods.md section 8: a single step
 /// differs from the integral by up to 0.8 % over 4 °C).
 ///
 /// # Errors
@@ -408,25 +396,10 @@ pub fn correct_po2_mmhg(
 ) -> Result<f64, PhysiologyError> {
     let po2 = require_pressure(po2_mmhg, Input::Po2)?;
     check_temperatures(measured_celsius, target_celsius)?;
-    let span = target_celsius - measured_celsius;
-    if span == 0.0 {
+    if target_celsius == measured_celsius {
         return Ok(po2);
     }
-    // At most (45 − 10) / 0.25 = 140 steps for the widest accepted span.
-    let steps = (span.abs() / PO2_INTEGRATION_MAX_STEP_CELSIUS)
-        .ceil()
-        .max(1.0) as u32;
-    let h = span / f64::from(steps);
-    let rate = |y: f64| po2_temperature_coefficient_ln_per_celsius(y.exp());
-    let mut y = po2.ln();
-    for _ in 0..steps {
-        let k1 = rate(y);
-        let k2 = rate(y + 0.5 * h * k1);
-        let k3 = rate(y + 0.5 * h * k2);
-        let k4 = rate(y + h * k3);
-        y += h / 6.0 * (k1 + 2.0 * k2 + 2.0 * k3 + k4);
-    }
-    Ok(y.exp())
+    severinghaus::po2_at_temperature_mmhg(po2, measured_celsius, target_celsius)
 }
 
 /// Carry a PO2 between temperatures in one step with the coefficient taken at
@@ -503,7 +476,7 @@ pub fn po2_temperature_coefficient_log10_form_per_celsius(
 /// ```text
 /// pH(T)   = pH37 − 0.0147·(T − 37) + 0.0065·(7.40 − pH37)·(T − 37)
 /// PCO2(T2) = PCO2(T1) · 10^(0.019·(T2 − T1))
-/// d ln PO2/dT = 0.058 / (0.243·(PO2/100)^3.88 + 1) + 0.013, integrated in ≤ 0.25 °C RK4 steps
+/// d ln PO2/dT = 0.058 / (0.243·(PO2/100)^3.88 + 1) + 0.013, integrated exactly
 /// ```
 ///
 /// Symbols and units as in [`correct_ph`], [`correct_pco2_mmhg`] and
