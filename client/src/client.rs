@@ -424,23 +424,19 @@ impl OxbindClient {
                 async move { stub.batch_saturation_from_tension(request).await }
             })
             .await?;
-        let shared = response.shared_provenance;
-        Ok(response
-            .results
-            .into_iter()
-            .map(|item| match item.result {
-                Some(saturation_from_tension_result::Result::Response(mut r)) => {
-                    if placement == ProvenancePlacement::Shared {
-                        r.provenance = Some(shared_entry(&shared, item.shared_provenance_index)?);
-                    }
-                    Ok(r)
-                }
-                Some(saturation_from_tension_result::Result::Error(e)) => {
-                    Err(ClientError::from_rpc_status(&e))
-                }
-                None => Err(missing_item()),
-            })
-            .collect())
+        let items = response.results.into_iter().map(|item| {
+            let outcome = item.result.map(|result| match result {
+                saturation_from_tension_result::Result::Response(r) => Ok(r),
+                saturation_from_tension_result::Result::Error(e) => Err(e),
+            });
+            (outcome, item.shared_provenance_index)
+        });
+        Ok(item_results(
+            items,
+            &response.shared_provenance,
+            placement,
+            |r, provenance| r.provenance = Some(provenance),
+        ))
     }
 
     /// Many tensions in one call (`BatchTensionFromSaturation`), with the same
@@ -480,23 +476,19 @@ impl OxbindClient {
                 async move { stub.batch_tension_from_saturation(request).await }
             })
             .await?;
-        let shared = response.shared_provenance;
-        Ok(response
-            .results
-            .into_iter()
-            .map(|item| match item.result {
-                Some(tension_from_saturation_result::Result::Response(mut r)) => {
-                    if placement == ProvenancePlacement::Shared {
-                        r.provenance = Some(shared_entry(&shared, item.shared_provenance_index)?);
-                    }
-                    Ok(r)
-                }
-                Some(tension_from_saturation_result::Result::Error(e)) => {
-                    Err(ClientError::from_rpc_status(&e))
-                }
-                None => Err(missing_item()),
-            })
-            .collect())
+        let items = response.results.into_iter().map(|item| {
+            let outcome = item.result.map(|result| match result {
+                tension_from_saturation_result::Result::Response(r) => Ok(r),
+                tension_from_saturation_result::Result::Error(e) => Err(e),
+            });
+            (outcome, item.shared_provenance_index)
+        });
+        Ok(item_results(
+            items,
+            &response.shared_provenance,
+            placement,
+            |r, provenance| r.provenance = Some(provenance),
+        ))
     }
 
     /// The health of `service` (`""` for the whole server), from
@@ -515,6 +507,29 @@ impl OxbindClient {
             .await?;
         Ok(response.status())
     }
+}
+
+/// A batch answer's items as results: each response (with its shared
+/// provenance entry copied in under `PROVENANCE_PLACEMENT_SHARED`) or the
+/// item's error; an item with neither is an error too.
+fn item_results<R>(
+    items: impl Iterator<Item = (Option<Result<R, tonic_types::pb::Status>>, u32)>,
+    shared: &[Provenance],
+    placement: ProvenancePlacement,
+    set_provenance: impl Fn(&mut R, Provenance),
+) -> Vec<ItemResult<R>> {
+    items
+        .map(|(outcome, index)| match outcome {
+            Some(Ok(mut response)) => {
+                if placement == ProvenancePlacement::Shared {
+                    set_provenance(&mut response, shared_entry(shared, index)?);
+                }
+                Ok(response)
+            }
+            Some(Err(status)) => Err(ClientError::from_rpc_status(&status)),
+            None => Err(missing_item()),
+        })
+        .collect()
 }
 
 /// The shared provenance entry an item names.

@@ -149,29 +149,21 @@ impl DissociationService for DissociationApi {
             "oxbind.v1.DissociationService/BatchSaturationFromTension",
             request.requests.len() as u64,
         );
-        let (placement, mut shared) = batch_placement(request.provenance_placement)?;
-        let results = request
-            .requests
-            .iter()
-            .enumerate()
-            .map(
-                |(index, item)| match saturation_from_tension(item, placement) {
-                    Ok((response, key)) => SaturationFromTensionResult {
-                        result: Some(saturation_from_tension_result::Result::Response(response)),
-                        shared_provenance_index: shared.index_for(placement, &key),
-                    },
-                    Err(refusal) => SaturationFromTensionResult {
-                        result: Some(saturation_from_tension_result::Result::Error(item_refusal(
-                            refusal, index,
-                        ))),
-                        shared_provenance_index: 0,
-                    },
-                },
-            )
-            .collect();
+        let (results, shared_provenance) = compute_batch(
+            &request.requests,
+            request.provenance_placement,
+            saturation_from_tension,
+            |outcome, shared_provenance_index| SaturationFromTensionResult {
+                result: Some(match outcome {
+                    Ok(response) => saturation_from_tension_result::Result::Response(response),
+                    Err(status) => saturation_from_tension_result::Result::Error(status),
+                }),
+                shared_provenance_index,
+            },
+        )?;
         Ok(Response::new(BatchSaturationFromTensionResponse {
             results,
-            shared_provenance: shared.into_entries(),
+            shared_provenance,
         }))
     }
 
@@ -185,31 +177,46 @@ impl DissociationService for DissociationApi {
             "oxbind.v1.DissociationService/BatchTensionFromSaturation",
             request.requests.len() as u64,
         );
-        let (placement, mut shared) = batch_placement(request.provenance_placement)?;
-        let results = request
-            .requests
-            .iter()
-            .enumerate()
-            .map(
-                |(index, item)| match tension_from_saturation(item, placement) {
-                    Ok((response, key)) => TensionFromSaturationResult {
-                        result: Some(tension_from_saturation_result::Result::Response(response)),
-                        shared_provenance_index: shared.index_for(placement, &key),
-                    },
-                    Err(refusal) => TensionFromSaturationResult {
-                        result: Some(tension_from_saturation_result::Result::Error(item_refusal(
-                            refusal, index,
-                        ))),
-                        shared_provenance_index: 0,
-                    },
-                },
-            )
-            .collect();
+        let (results, shared_provenance) = compute_batch(
+            &request.requests,
+            request.provenance_placement,
+            tension_from_saturation,
+            |outcome, shared_provenance_index| TensionFromSaturationResult {
+                result: Some(match outcome {
+                    Ok(response) => tension_from_saturation_result::Result::Response(response),
+                    Err(status) => tension_from_saturation_result::Result::Error(status),
+                }),
+                shared_provenance_index,
+            },
+        )?;
         Ok(Response::new(BatchTensionFromSaturationResponse {
             results,
-            shared_provenance: shared.into_entries(),
+            shared_provenance,
         }))
     }
+}
+
+/// Compute every item of a batch with `compute`, in order, and wrap each
+/// outcome (the response, or the refusal's status with its field paths under
+/// `requests[i]`) with its shared provenance index by `wrap`; the shared
+/// entries come back beside the results. `raw_placement` is the request's
+/// `provenance_placement`; an unknown value refuses the batch.
+fn compute_batch<Req, Resp, Item>(
+    requests: &[Req],
+    raw_placement: i32,
+    compute: impl Fn(&Req, ItemProvenance) -> Result<(Resp, ProvenanceKey), InvalidRequest>,
+    wrap: impl Fn(Result<Resp, tonic_types::pb::Status>, u32) -> Item,
+) -> Result<(Vec<Item>, Vec<oxbind_proto::v1::Provenance>), Status> {
+    let (placement, mut shared) = batch_placement(raw_placement)?;
+    let results = requests
+        .iter()
+        .enumerate()
+        .map(|(index, item)| match compute(item, placement) {
+            Ok((response, key)) => wrap(Ok(response), shared.index_for(placement, &key)),
+            Err(refusal) => wrap(Err(item_refusal(refusal, index)), 0),
+        })
+        .collect();
+    Ok((results, shared.into_entries()))
 }
 
 /// The status of a refused batch item, its field paths prefixed by the
