@@ -181,6 +181,56 @@ fn batch_counts_items_and_sizes_and_every_item_is_computed() {
     assert!(report["baseline"].is_null());
 }
 
+/// Shared provenance makes each answered item smaller than per-item
+/// provenance for the same inputs (same seed), and PO2-only items are smaller
+/// requests; every item still computes.
+#[test]
+fn shared_provenance_and_po2_only_shrink_the_messages() {
+    let server = Server::start();
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "--rpc",
+            "batch-saturation",
+            "--items",
+            "20",
+            "--in-flight",
+            "1",
+            "--connections",
+            "1",
+            "--warm-up",
+            "0",
+            "--duration",
+            "0.3",
+            "--seed",
+            "7",
+        ];
+        args.extend_from_slice(extra);
+        let report = server.load(&args);
+        let result = report["result"].clone();
+        check_consistent(&result);
+        assert_eq!(result["itemErrors"], serde_json::json!({}), "{report}");
+        result
+    };
+    let each = run(&[]);
+    let shared = run(&["--shared-provenance"]);
+    let po2_only = run(&["--shared-provenance", "--po2-only"]);
+    let bytes = |r: &Value, key: &str| f(&r[key]);
+    // Full provenance is hundreds of bytes an item; shared, none.
+    assert!(
+        bytes(&shared, "responseBytesPerItem") * 3.0 < bytes(&each, "responseBytesPerItem"),
+        "{each} {shared}"
+    );
+    assert_eq!(
+        bytes(&shared, "requestBytesPerItem"),
+        bytes(&each, "requestBytesPerItem")
+    );
+    // A PO2 alone (value and unit) is well under the blood gas with conditions.
+    assert!(
+        bytes(&po2_only, "requestBytesPerItem") * 2.0 < bytes(&shared, "requestBytesPerItem"),
+        "{shared} {po2_only}"
+    );
+}
+
 #[test]
 fn max_calls_bounds_the_count() {
     let server = Server::start();
