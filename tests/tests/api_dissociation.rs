@@ -492,6 +492,79 @@ async fn warnings_for_unmodelled_conditions_and_validated_ranges() {
     server.stop().await;
 }
 
+/// Each validated range is checked once per call, on the given and on the
+/// computed point of the curve: a condition outside its range draws one
+/// warning, and the Hill equation's range (saturation 0.1 to 0.9, the
+/// engine's `hill.rs`, our judgement) applies to a computed saturation and
+/// to a measured pair's saturation too.
+#[tokio::test]
+async fn each_validated_range_is_checked_once_on_the_given_and_the_computed_point() {
+    let server = TestServer::start().await;
+    let mut client = client(&server).await;
+    let outside = |warnings: &[oxbind_client::v1::Warning], field: &str| {
+        warnings
+            .iter()
+            .filter(|w| w.code == WarningCode::OutsideValidatedRange as i32 && w.field == field)
+            .count()
+    };
+    // pH 7.9 lies outside Severinghaus's validated 6.8-7.8 (the engine's
+    // severinghaus.rs, our judgement of the clinical range).
+    let tension = client
+        .tension_from_saturation(TensionFromSaturationRequest {
+            saturation_fraction: 0.8,
+            conditions: Some(BloodConditions {
+                ph: Some(7.9),
+                ..Default::default()
+            }),
+            ..Default::default()
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    assert_eq!(
+        outside(&tension.warnings, "conditions.ph"),
+        1,
+        "{tension:?}"
+    );
+    // Hill (adult preset, P50 26.8, n 2.7) at 150 mm[Hg]: S = 0.990 (the Hill
+    // equation, common practice), above the range; at 30 mm[Hg] inside it.
+    for (po2, expected) in [(150.0, 1), (30.0, 0)] {
+        let response = client
+            .saturation_from_tension(SaturationFromTensionRequest {
+                po2: q(po2, "mm[Hg]"),
+                model: Model::Hill as i32,
+                ..Default::default()
+            })
+            .await
+            .unwrap()
+            .into_inner();
+        assert_eq!(outside(&response.warnings, "po2"), expected, "{response:?}");
+        assert_eq!(
+            response.provenance.unwrap().within_validated_range,
+            expected == 0
+        );
+    }
+    let p50 = client
+        .estimate_p50(EstimateP50Request {
+            pairs: vec![MeasuredPair {
+                po2: q(90.0, "mm[Hg]"),
+                saturation_fraction: 0.95,
+                conditions: None,
+            }],
+            model: Model::Hill as i32,
+            ..Default::default()
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    assert_eq!(
+        outside(&p50.warnings, "pairs[0].saturation_fraction"),
+        1,
+        "{p50:?}"
+    );
+    server.stop().await;
+}
+
 #[tokio::test]
 async fn every_model_answers_and_the_hill_presets_apply() {
     let server = TestServer::start().await;

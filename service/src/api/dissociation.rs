@@ -391,7 +391,12 @@ fn saturation_from_tension(
         &model,
         &conditions,
         &conditions_path,
-        Some((Input::Po2, po2, &po2_path)),
+        // The saturation found is the result, so its warning names the input
+        // that produced it.
+        &[
+            (Input::Po2, po2, &po2_path),
+            (Input::Saturation, saturation, &po2_path),
+        ],
         &mut found,
     );
     let key = ProvenanceKey {
@@ -451,20 +456,16 @@ fn tension_from_saturation(
 
     let mut found = Vec::new();
     warnings::unmodelled_conditions(&model, &conditions, &conditions_path, &mut found);
-    let mut inside = warnings::validated_ranges(
-        &model,
-        &conditions,
-        &conditions_path,
-        Some((Input::Saturation, saturation, &saturation_path)),
-        &mut found,
-    );
-    inside &= warnings::validated_ranges(
+    let inside = warnings::validated_ranges(
         &model,
         &conditions,
         &conditions_path,
         // The PO2 found is the result, so its warning names the input that
         // produced it.
-        Some((Input::Po2, po2, &saturation_path)),
+        &[
+            (Input::Saturation, saturation, &saturation_path),
+            (Input::Po2, po2, &saturation_path),
+        ],
         &mut found,
     );
     if saturation > PLATEAU_SATURATION {
@@ -608,7 +609,7 @@ pub fn compute_sample_curve(
         let mut found = Vec::new();
         warnings::unmodelled_conditions(&model, &conditions, &set_path, &mut found);
         let inside_conditions =
-            warnings::validated_ranges(&model, &conditions, &set_path, None, &mut found);
+            warnings::validated_ranges(&model, &conditions, &set_path, &[], &mut found);
         let mut ends_inside = true;
         for (end, value) in [("po2_min", po2_min), ("po2_max", po2_max)] {
             if !model.info().within_validated_range(Input::Po2, value) {
@@ -718,8 +719,7 @@ pub fn compute_shift_factors(
         shift::shift_factors(&model, &conditions).map_err(|e| engine_refusal(&e, "conditions"))?;
     let mut found = Vec::new();
     warnings::unmodelled_conditions(&model, &conditions, &conditions_path, &mut found);
-    let inside =
-        warnings::validated_ranges(&model, &conditions, &conditions_path, None, &mut found);
+    let inside = warnings::validated_ranges(&model, &conditions, &conditions_path, &[], &mut found);
     Ok(ShiftFactorsResponse {
         p50_standard: Some(units::from_engine(
             analysis.p50_standard_mmhg,
@@ -810,11 +810,15 @@ pub fn compute_estimate_p50(
     for (index, pair) in &pairs {
         let pair_path = root.indexed("pairs", *index);
         let po2_path = pair_path.field("po2");
+        let saturation_path = pair_path.field("saturation_fraction");
         inside &= warnings::validated_ranges(
             &model,
             &pair.conditions,
             &pair_path.field("conditions"),
-            Some((Input::Po2, pair.po2_mmhg, &po2_path)),
+            &[
+                (Input::Po2, pair.po2_mmhg, &po2_path),
+                (Input::Saturation, pair.saturation, &saturation_path),
+            ],
             &mut found,
         );
     }

@@ -75,14 +75,21 @@ fn condition_value(conditions: &Conditions, condition: Condition) -> f64 {
     }
 }
 
-/// Warn for every input outside the model's validated range. `point` is the
-/// request's own curve input (PO2 or saturation) with its field path, when it
-/// has one. Returns whether every input lay inside.
+/// A point on the curve checked against the model's validated ranges: the
+/// input (PO2 or saturation), its value, and the request field a warning
+/// about it names.
+pub type CurvePoint<'a> = (Input, f64, &'a FieldPath<'a>);
+
+/// Warn for every input outside the model's validated range, once each.
+/// `points` are the call's point on the curve, given and computed (a PO2 and
+/// its saturation), each with the field path a warning names (a computed
+/// value names the input that produced it). Returns whether every input lay
+/// inside.
 pub fn validated_ranges(
     model: &Model,
     conditions: &Conditions,
     conditions_path: &FieldPath<'_>,
-    point: Option<(Input, f64, &FieldPath<'_>)>,
+    points: &[CurvePoint<'_>],
     out: &mut Vec<Warning>,
 ) -> bool {
     let info = model.info();
@@ -90,7 +97,7 @@ pub fn validated_ranges(
     for range in info.validated_ranges {
         // The field path is rendered only for a warning.
         let (value, condition_path, point_path) =
-            if let Some((_, value, path)) = point.filter(|p| p.0 == range.input) {
+            if let Some(&(_, value, path)) = points.iter().find(|p| p.0 == range.input) {
                 (value, None, Some(path))
             } else if let Some(condition) = Condition::ALL
                 .iter()
