@@ -293,7 +293,6 @@ struct ProvenanceKey {
 /// The shared provenance entries of one batch answer, in order of first use.
 #[derive(Debug, Default)]
 struct SharedProvenance {
-    keys: Vec<(&'static str, bool)>,
     entries: Vec<oxbind_proto::v1::Provenance>,
 }
 
@@ -304,17 +303,18 @@ impl SharedProvenance {
         if placement == ItemProvenance::Full {
             return 0;
         }
-        let wanted = (key.model.id, key.within_validated_range);
-        let index = match self.keys.iter().position(|k| *k == wanted) {
+        let index = match self.entries.iter().position(|entry| {
+            entry.model_id == key.model.id
+                && entry.within_validated_range == key.within_validated_range
+        }) {
             Some(index) => index,
             None => {
-                self.keys.push(wanted);
                 self.entries.push(provenance::for_model(
                     key.model,
                     Vec::new(),
                     key.within_validated_range,
                 ));
-                self.keys.len() - 1
+                self.entries.len() - 1
             }
         };
         // At most two entries per model in the catalog: the cast cannot

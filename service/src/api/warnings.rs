@@ -78,7 +78,7 @@ fn condition_value(conditions: &Conditions, condition: Condition) -> f64 {
 /// A point on the curve checked against the model's validated ranges: the
 /// input (PO2 or saturation), its value, and the request field a warning
 /// about it names.
-pub type CurvePoint<'a> = (Input, f64, &'a FieldPath<'a>);
+pub type RangePoint<'a> = (Input, f64, &'a FieldPath<'a>);
 
 /// Warn for every input outside the model's validated range, once each.
 /// `points` are the call's point on the curve, given and computed (a PO2 and
@@ -89,7 +89,7 @@ pub fn validated_ranges(
     model: &Model,
     conditions: &Conditions,
     conditions_path: &FieldPath<'_>,
-    points: &[CurvePoint<'_>],
+    points: &[RangePoint<'_>],
     out: &mut Vec<Warning>,
 ) -> bool {
     let info = model.info();
