@@ -1,0 +1,766 @@
+//! The attacks of issue 19, each against a running server, each returning
+//! its figures: what the attacker held, what honest callers got meanwhile
+//! (calls served and refused, by status), what health did, and what the
+//! server's memory and file descriptors did.
+//!
+//! Every attack is bounded in count and time and talks only to loopback.
+
+use std::{
+    collections::BTreeMap,
+    net::SocketAddr,
+    sync::{Arc, Mutex},
+    time::{Duration, Instant},
+};
+
+use oxbind_client::{
+    health::{
+        health_check_response::ServingStatus, health_client::HealthClient, HealthCheckRequest,
+    },
+    v1::{model_catalog_service_client::ModelCatalogServiceClient, ListModelsRequest},
+};
+use prost::bytes::Bytes;
+use serde::Serialize;
+use tokio::{io::AsyncReadExt, net::TcpStream, task::JoinSet};
+
+use crate::{
+    inputs,
+    probe::{HealthFigures, HealthProbe},
+    server::{Memory, ServerProcess},
+    wire::{self, Answer},
+};
+
+/// Calls counted by their status (`OK`, `RESOURCE_EXHAUSTED`, ...; `RESET`
+/// when the stream was reset, `HTTP_<n>` when there was no gRPC status).
+#[derive(Debug, Clone, Default, Serialize, PartialEq, Eq)]
+pub struct Tally(pub BTreeMap<String, u64>);
+
+impl Tally {
+    /// Count one answer.
+    pub fn add(&mut self, label: impl Into<String>) {
+        *self.0.entry(label.into()).or_default() += 1;
+    }
+
+    /// How many got `label`.
+    pub fn get(&self, label: &str) -> u64 {
+        self.0.get(label).copied().unwrap_or(0)
+    }
+
+    /// How many in all.
+    pub fn total(&self) -> u64 {
+        self.0.values().sum()
+    }
+
+    /// Every label other than those in `allowed`.
+    pub fn others(&self, allowed: &[&str]) -> Vec<String> {
+        self.0
+            .keys()
+            .filter(|k| !allowed.contains(&k.as_str()))
+            .cloned()
+            .collect()
+    }
+}
+
+/// Milliseconds, for the figures.
+fn ms(duration: Duration) -> f64 {
+    (duration.as_secs_f64() * 1e4).round() / 10.0
+}
+
+/// `calls` SaturationFromTension calls at once on a fresh connection, each
+/// with `deadline`; their statuses.
+async fn honest_calls(address: SocketAddr, calls: usize, deadline: Duration) -> Tally {
+    let mut tally = Tally::default();
+    let send = match tokio::time::timeout(deadline, wire::h2_connect(address)).await {
+        Ok(Ok(send)) => send,
+        _ => {
+            tally.add("NO_CONNECTION");
+            return tally;
+        }
+    };
+    let message = wire::grpc_frame(&inputs::blood_gas(7));
+    let mut set = JoinSet::new();
+    for _ in 0..calls {
+        let mut send = send.clone();
+        let message = message.clone();
+        set.spawn(async move {
+            let request = wire::grpc_request(address, wire::SATURATION_PATH, &[]);
+            match tokio::time::timeout(
+                deadline,
+                wire::exchange(&mut send, request, Some(message), true),
+            )
+            .await
+            {
+                Ok(answer) => answer.label(),
+                Err(_) => "NO_ANSWER_IN_TIME".to_owned(),
+            }
+        });
+    }
+    while let Some(label) = set.join_next().await {
+        tally.add(label.expect("call task"));
+    }
+    tally
+}
+
+/// Streams an attacker opened and left open, and how they ended.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct HeldStreams {
+    /// Streams opened.
+    pub opened: usize,
+    /// Streams the server answered within 100 ms of opening (refused at
+    /// once), by status.
+    pub refused_at_once: Tally,
+    /// Streams the server ended later, within the observation time, by
+    /// status.
+    pub ended_later: Tally,
+    /// When the last of those ended, ms after opening.
+    pub last_end_ms: Option<f64>,
+    /// Streams still open when the observation ended.
+    pub still_open: usize,
+}
+
+/// Figures of an attack by held streams.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct StreamsFigures {
+    /// The attacker's streams.
+    pub streams: HeldStreams,
+    /// Honest SaturationFromTension calls made while the streams were held,
+    /// by status.
+    pub honest_calls: Tally,
+    /// Health during the attack.
+    pub health: HealthFigures,
+    /// The server's memory after.
+    pub memory: Memory,
+}
+
+/// Open `streams` streams to `path` on one connection, sending `first`
+/// (if any) and never ending the request; then make `calls` honest calls on
+/// another connection; then watch the held streams for `observe`.
+async fn hold_streams(
+    server: &ServerProcess,
+    path: &'static str,
+    first: Option<Bytes>,
+    streams: usize,
+    calls: usize,
+    observe: Duration,
+) -> StreamsFigures {
+    let probe = HealthProbe::start(server.health_uri()).await;
+    let address = server.address;
+    let send = wire::h2_connect(address)
+        .await
+        .expect("attacker connection");
+    let ends: Arc<Mutex<Vec<(Duration, Answer)>>> = Arc::default();
+    let opened_at = Instant::now();
+    let mut held = Vec::new();
+    for _ in 0..streams {
+        let mut ready = match send.clone().ready().await {
+            Ok(ready) => ready,
+            Err(_) => break,
+        };
+        let request = wire::grpc_request(address, path, &[]);
+        let Ok((response, mut body)) = ready.send_request(request, false) else {
+            break;
+        };
+        if let Some(first) = &first {
+            let _ = body.send_data(first.clone(), false);
+        }
+        let ends = ends.clone();
+        held.push(tokio::spawn(async move {
+            let answer = wire::read_answer(response).await;
+            ends.lock().unwrap().push((opened_at.elapsed(), answer));
+            drop(body);
+        }));
+    }
+    let opened = held.len();
+    // Let the server take the streams in before the honest calls.
+    tokio::time::sleep(Duration::from_millis(200)).await;
+    let honest = honest_calls(address, calls, Duration::from_secs(5)).await;
+    let until = opened_at + observe;
+    while Instant::now() < until && ends.lock().unwrap().len() < opened {
+        tokio::time::sleep(Duration::from_millis(20)).await;
+    }
+    let mut figures = HeldStreams {
+        opened,
+        ..HeldStreams::default()
+    };
+    for (at, answer) in ends.lock().unwrap().iter() {
+        if *at <= Duration::from_millis(100) {
+            figures.refused_at_once.add(answer.label());
+        } else {
+            figures.ended_later.add(answer.label());
+            figures.last_end_ms = Some(figures.last_end_ms.unwrap_or(0.0).max(ms(*at)));
+        }
+    }
+    figures.still_open = opened - ends.lock().unwrap().len();
+    for task in held {
+        task.abort();
+    }
+    StreamsFigures {
+        streams: figures,
+        honest_calls: honest,
+        health: probe.finish().await,
+        memory: server.memory(),
+    }
+}
+
+/// Finding 1a: idle server-reflection streams (opened, nothing sent).
+pub async fn idle_reflection_streams(
+    server: &ServerProcess,
+    streams: usize,
+    calls: usize,
+    observe: Duration,
+) -> StreamsFigures {
+    hold_streams(server, wire::REFLECTION_PATH, None, streams, calls, observe).await
+}
+
+/// Finding 1b: unary calls that send their headers and never their message.
+pub async fn headers_only_streams(
+    server: &ServerProcess,
+    streams: usize,
+    calls: usize,
+    observe: Duration,
+) -> StreamsFigures {
+    hold_streams(server, wire::SATURATION_PATH, None, streams, calls, observe).await
+}
+
+/// Finding 1b, a variant: a unary call's message sent but the request never
+/// ended.
+pub async fn unended_requests(
+    server: &ServerProcess,
+    streams: usize,
+    calls: usize,
+    observe: Duration,
+) -> StreamsFigures {
+    let message = wire::grpc_frame(&inputs::blood_gas(3));
+    hold_streams(
+        server,
+        wire::SATURATION_PATH,
+        Some(message),
+        streams,
+        calls,
+        observe,
+    )
+    .await
+}
+
+/// How an honest client is made for the socket attacks.
+#[derive(Clone)]
+pub enum HonestClient {
+    /// Plaintext.
+    Plain(String),
+    /// Mutual TLS with a certificate from the CA the server trusts.
+    MutualTls {
+        /// `https://localhost:PORT`.
+        uri: String,
+        /// The CA (trusted for the server's certificate).
+        ca_pem: String,
+        /// The client's certificate and key.
+        identity: (String, String),
+    },
+}
+
+impl HonestClient {
+    /// One ListModels call on a fresh connection.
+    async fn call(&self) -> Result<(), String> {
+        let builder = match self {
+            HonestClient::Plain(uri) => oxbind_client::OxbindClient::builder(uri.clone()),
+            HonestClient::MutualTls {
+                uri,
+                ca_pem,
+                identity,
+            } => oxbind_client::OxbindClient::builder(uri.clone())
+                .ca_certificate_pem(ca_pem.clone())
+                .client_identity_pem(identity.0.clone(), identity.1.clone())
+                .tls_domain_name("localhost"),
+        };
+        let client = builder
+            .connect_timeout(Duration::from_secs(60))
+            .call_timeout(Duration::from_secs(60))
+            .retry(oxbind_client::RetryPolicy::none())
+            .connect()
+            .await
+            .map_err(|e| e.to_string())?;
+        client
+            .list_models(ListModelsRequest::default())
+            .await
+            .map(|_| ())
+            .map_err(|e| e.to_string())
+    }
+}
+
+/// Figures of an attack by idle sockets.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct SocketsFigures {
+    /// Sockets opened (TCP connected; nothing sent).
+    pub sockets: usize,
+    /// Whether an honest client was served while they were held.
+    pub honest_served: bool,
+    /// How long the honest client waited, ms (up to the limit given).
+    pub honest_wait_ms: f64,
+    /// The honest client's error, when it was not served.
+    pub honest_error: Option<String>,
+    /// Sockets the server closed within the observation time.
+    pub closed_by_server: usize,
+    /// When the last of those closed, ms after opening.
+    pub last_close_ms: Option<f64>,
+    /// The server's open file descriptors at their highest (sampled).
+    pub server_fds_peak: usize,
+    /// Health during the attack.
+    pub health: HealthFigures,
+    /// The server's memory after.
+    pub memory: Memory,
+}
+
+/// Findings 2 and 3: `sockets` TCP connections to `target` that never send
+/// a byte (no HTTP/2 preface, no TLS hello); meanwhile an honest client
+/// tries for up to `honest_limit`; the sockets are watched for `observe`.
+pub async fn idle_sockets(
+    server: &ServerProcess,
+    target: SocketAddr,
+    sockets: usize,
+    honest: HonestClient,
+    honest_limit: Duration,
+    observe: Duration,
+) -> SocketsFigures {
+    let probe = HealthProbe::start(server.health_uri()).await;
+    let opened_at = Instant::now();
+    let closes: Arc<Mutex<Vec<Duration>>> = Arc::default();
+    let mut held = Vec::new();
+    for _ in 0..sockets {
+        let Ok(Ok(mut tcp)) =
+            tokio::time::timeout(Duration::from_secs(2), TcpStream::connect(target)).await
+        else {
+            break;
+        };
+        let closes = closes.clone();
+        held.push(tokio::spawn(async move {
+            let mut buf = [0u8; 256];
+            loop {
+                match tcp.read(&mut buf).await {
+                    Ok(0) | Err(_) => break,
+                    Ok(_) => {}
+                }
+            }
+            closes.lock().unwrap().push(opened_at.elapsed());
+        }));
+    }
+    let opened = held.len();
+    let mut fds_peak = server.open_fds();
+    let honest_start = Instant::now();
+    let honest_result = tokio::time::timeout(honest_limit, honest.call()).await;
+    let honest_wait = honest_start.elapsed();
+    let (honest_served, honest_error) = match honest_result {
+        Ok(Ok(())) => (true, None),
+        Ok(Err(e)) => (false, Some(e)),
+        Err(_) => (false, Some(format!("no answer within {honest_limit:?}"))),
+    };
+    let until = opened_at + observe;
+    while Instant::now() < until && closes.lock().unwrap().len() < opened {
+        fds_peak = fds_peak.max(server.open_fds());
+        tokio::time::sleep(Duration::from_millis(50)).await;
+    }
+    fds_peak = fds_peak.max(server.open_fds());
+    let closes = closes.lock().unwrap().clone();
+    for task in held {
+        task.abort();
+    }
+    SocketsFigures {
+        sockets: opened,
+        honest_served,
+        honest_wait_ms: ms(honest_wait),
+        honest_error,
+        closed_by_server: closes.len(),
+        last_close_ms: closes.iter().max().map(|d| ms(*d)),
+        server_fds_peak: fds_peak,
+        health: probe.finish().await,
+        memory: server.memory(),
+    }
+}
+
+/// Figures of the attack by idle, ping-answering connections.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct IdleConnectionsFigures {
+    /// HTTP/2 connections opened (preface and settings sent, no stream).
+    pub connections: usize,
+    /// Connections the server closed within the observation time.
+    pub closed_by_server: usize,
+    /// When the last of those closed, ms after opening.
+    pub last_close_ms: Option<f64>,
+}
+
+/// Finding 2, second part: HTTP/2 connections that complete the handshake,
+/// open no stream and answer every keepalive ping.
+pub async fn idle_connections(
+    server: &ServerProcess,
+    connections: usize,
+    observe: Duration,
+) -> IdleConnectionsFigures {
+    let opened_at = Instant::now();
+    let mut watched = Vec::new();
+    for _ in 0..connections {
+        if let Ok((send, done)) = wire::h2_connect_watched(server.address).await {
+            watched.push((send, done));
+        }
+    }
+    let opened = watched.len();
+    let closes: Arc<Mutex<Vec<Duration>>> = Arc::default();
+    let mut waiters = Vec::new();
+    let mut senders = Vec::new();
+    for (send, done) in watched {
+        senders.push(send);
+        let closes = closes.clone();
+        waiters.push(tokio::spawn(async move {
+            let _ = done.await;
+            closes.lock().unwrap().push(opened_at.elapsed());
+        }));
+    }
+    let until = opened_at + observe;
+    while Instant::now() < until && closes.lock().unwrap().len() < opened {
+        tokio::time::sleep(Duration::from_millis(50)).await;
+    }
+    let closes = closes.lock().unwrap().clone();
+    for waiter in waiters {
+        waiter.abort();
+    }
+    drop(senders);
+    IdleConnectionsFigures {
+        connections: opened,
+        closed_by_server: closes.len(),
+        last_close_ms: closes.iter().max().map(|d| ms(*d)),
+    }
+}
+
+/// Figures of a flood of calls.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct LoadFigures {
+    /// Calls sent.
+    pub calls: usize,
+    /// Their statuses.
+    pub answers: Tally,
+    /// Batch items computed (in OK answers).
+    pub items_computed: u64,
+    /// Wall time of the whole flood, ms.
+    pub elapsed_ms: f64,
+    /// Health during it.
+    pub health: HealthFigures,
+    /// Server memory after it (`peak_rss_mib` is the peak over the process's
+    /// life, so over the flood when the server was fresh).
+    pub memory: Memory,
+}
+
+/// Send `messages` (path, encoded message, items) round-robin over
+/// `connections` connections, `in_flight` at once, `rounds` times over.
+async fn flood(
+    server: &ServerProcess,
+    messages: Vec<(&'static str, Bytes, u64)>,
+    connections: usize,
+    rounds: usize,
+    deadline: Duration,
+) -> LoadFigures {
+    let probe = HealthProbe::start(server.health_uri()).await;
+    let address = server.address;
+    let mut sends = Vec::new();
+    for _ in 0..connections {
+        sends.push(wire::h2_connect(address).await.expect("connection"));
+    }
+    let start = Instant::now();
+    let mut answers = Tally::default();
+    let mut items_computed = 0;
+    for _ in 0..rounds {
+        let mut set = JoinSet::new();
+        for (i, (path, message, items)) in messages.iter().enumerate() {
+            let mut send = sends[i % sends.len()].clone();
+            let (path, message, items) = (*path, message.clone(), *items);
+            set.spawn(async move {
+                let timeout = format!("{}m", deadline.as_millis());
+                let request =
+                    wire::grpc_request(address, path, &[("grpc-timeout", timeout.as_str())]);
+                let answer = tokio::time::timeout(
+                    deadline + Duration::from_secs(5),
+                    wire::exchange(&mut send, request, Some(message), true),
+                )
+                .await;
+                match answer {
+                    Ok(answer) => (answer.label(), if answer.is_grpc_ok() { items } else { 0 }),
+                    Err(_) => ("NO_ANSWER_IN_TIME".to_owned(), 0),
+                }
+            });
+        }
+        while let Some(result) = set.join_next().await {
+            let (label, items) = result.expect("call task");
+            answers.add(label);
+            items_computed += items;
+        }
+    }
+    LoadFigures {
+        calls: messages.len() * rounds,
+        answers,
+        items_computed,
+        elapsed_ms: ms(start.elapsed()),
+        health: probe.finish().await,
+        memory: server.memory(),
+    }
+}
+
+/// Finding 4 and 5: `concurrent` batches of `items` blood gases each
+/// (provenance on each item, the heaviest answer) at once over
+/// `connections` connections, `rounds` times.
+pub async fn batch_flood(
+    server: &ServerProcess,
+    concurrent: usize,
+    items: usize,
+    connections: usize,
+    rounds: usize,
+) -> LoadFigures {
+    let message = wire::grpc_frame(&inputs::batch(items));
+    let messages = (0..concurrent)
+        .map(|_| (wire::BATCH_SATURATION_PATH, message.clone(), items as u64))
+        .collect();
+    flood(
+        server,
+        messages,
+        connections,
+        rounds,
+        Duration::from_secs(60),
+    )
+    .await
+}
+
+/// The 10x overload: `calls` at once, most single SaturationFromTension
+/// calls and every eighth a 500-item batch, over `connections` connections.
+pub async fn overload(server: &ServerProcess, calls: usize, connections: usize) -> LoadFigures {
+    let single = wire::grpc_frame(&inputs::blood_gas(11));
+    let batch = wire::grpc_frame(&inputs::batch(500));
+    let messages = (0..calls)
+        .map(|i| {
+            if i % 8 == 7 {
+                (wire::BATCH_SATURATION_PATH, batch.clone(), 500)
+            } else {
+                (wire::SATURATION_PATH, single.clone(), 0)
+            }
+        })
+        .collect();
+    flood(server, messages, connections, 1, Duration::from_secs(20)).await
+}
+
+/// Figures of SIGTERM with a health Watch stream open.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct ShutdownFigures {
+    /// Time from SIGTERM to the process's exit, ms (none: not within the
+    /// limit).
+    pub exit_ms: Option<f64>,
+    /// The exit status.
+    pub exit_code: Option<i32>,
+    /// Whether the Watch stream saw NOT_SERVING before it ended.
+    pub watch_saw_not_serving: bool,
+    /// How the Watch stream ended (status), if it did.
+    pub watch_end: Option<String>,
+}
+
+/// Finding 6: a Watch stream open (on the main listener) when SIGTERM
+/// arrives; wait up to `limit` for the exit.
+pub async fn shutdown_with_watch(server: &mut ServerProcess, limit: Duration) -> ShutdownFigures {
+    let channel = oxbind_client::connect(server.uri()).await.expect("connect");
+    let mut health = HealthClient::new(channel);
+    let mut watch = health
+        .watch(HealthCheckRequest::default())
+        .await
+        .expect("watch starts")
+        .into_inner();
+    let first = watch
+        .message()
+        .await
+        .expect("first status")
+        .expect("a status");
+    assert_eq!(first.status(), ServingStatus::Serving);
+    let saw: Arc<Mutex<(bool, Option<String>)>> = Arc::default();
+    let seen = saw.clone();
+    let reader = tokio::spawn(async move {
+        loop {
+            match watch.message().await {
+                Ok(Some(update)) => {
+                    if update.status() == ServingStatus::NotServing {
+                        seen.lock().unwrap().0 = true;
+                    }
+                }
+                Ok(None) => {
+                    seen.lock().unwrap().1 = Some("OK".to_owned());
+                    break;
+                }
+                Err(status) => {
+                    seen.lock().unwrap().1 =
+                        Some(oxbind_client::code_name(status.code()).to_owned());
+                    break;
+                }
+            }
+        }
+    });
+    let signalled = Instant::now();
+    server.terminate();
+    let exit = tokio::task::block_in_place(|| server.wait_exit(limit));
+    let elapsed = signalled.elapsed();
+    let _ = tokio::time::timeout(Duration::from_secs(1), reader).await;
+    let (saw_not_serving, end) = saw.lock().unwrap().clone();
+    ShutdownFigures {
+        exit_ms: exit.map(|_| ms(elapsed)),
+        exit_code: exit.and_then(|s| s.code()),
+        watch_saw_not_serving: saw_not_serving,
+        watch_end: end,
+    }
+}
+
+/// One protocol probe's outcome.
+#[derive(Debug, Clone, Serialize)]
+pub struct ProtocolProbe {
+    /// What was sent.
+    pub sent: &'static str,
+    /// HTTP status of the answer.
+    pub http_status: u16,
+    /// gRPC status (name), if any.
+    pub grpc_status: Option<String>,
+    /// Whether the server computed it and answered OK as gRPC.
+    pub answered_ok: bool,
+}
+
+fn probe_of(sent: &'static str, answer: &Answer) -> ProtocolProbe {
+    ProtocolProbe {
+        sent,
+        http_status: answer.http_status,
+        grpc_status: answer
+            .grpc_status
+            .map(|c| oxbind_client::code_name(tonic::Code::from_i32(c)).to_owned()),
+        answered_ok: answer.is_grpc_ok(),
+    }
+}
+
+/// What a protocol probe sends: its description, the method and the headers
+/// that replace the gRPC ones (an empty value removes the header).
+type ProtocolCase = (&'static str, &'static str, &'static [(&'static str, &'static str)]);
+
+/// Finding 7 over HTTP/2: content types, methods, two messages on a unary
+/// call. Each probe on its own stream of one connection.
+pub async fn protocol_http2(server: &ServerProcess) -> Vec<ProtocolProbe> {
+    let address = server.address;
+    let mut send = wire::h2_connect(address).await.expect("connection");
+    let message = wire::grpc_frame(&inputs::blood_gas(5));
+    let mut probes = Vec::new();
+    let cases: [ProtocolCase; 7] = [
+        ("POST application/grpc (control)", "POST", &[]),
+        (
+            "POST content-type text/plain",
+            "POST",
+            &[("content-type", "text/plain")],
+        ),
+        (
+            "POST content-type application/json, gRPC-framed body",
+            "POST",
+            &[("content-type", "application/json")],
+        ),
+        ("POST with no content-type", "POST", &[("content-type", "")]),
+        (
+            "POST content-type application/grpc+json",
+            "POST",
+            &[("content-type", "application/grpc+json")],
+        ),
+        ("PUT application/grpc", "PUT", &[]),
+        ("GET application/grpc", "GET", &[]),
+    ];
+    for (sent, method, headers) in cases {
+        let mut request = wire::grpc_request(address, wire::SATURATION_PATH, headers);
+        *request.method_mut() = method.parse().expect("method");
+        let body = (method != "GET").then(|| message.clone());
+        let end = true;
+        let answer = wire::exchange(&mut send, request, body, end).await;
+        probes.push(probe_of(sent, &answer));
+    }
+    let mut two = message.to_vec();
+    two.extend_from_slice(&message);
+    let request = wire::grpc_request(address, wire::SATURATION_PATH, &[]);
+    let answer = wire::exchange(&mut send, request, Some(two.into()), true).await;
+    probes.push(probe_of("two messages on a unary call", &answer));
+    probes
+}
+
+/// grpc-web over HTTP/1.1 from `origin` (the server must run with
+/// `--grpc-web`): the HTTP status and whether it was computed.
+pub async fn grpc_web_from_origin(server: &ServerProcess, origin: &str) -> (u16, bool) {
+    let mut request = format!(
+        "POST {} HTTP/1.1\r\nhost: localhost\r\ncontent-type: application/grpc-web+proto\r\n\
+         x-grpc-web: 1\r\norigin: {origin}\r\ncontent-length: 5\r\nconnection: close\r\n\r\n",
+        wire::LIST_MODELS_PATH
+    )
+    .into_bytes();
+    request.extend_from_slice(&[0, 0, 0, 0, 0]);
+    let response = wire::http1_exchange(server.address, &request).await;
+    let computed = response.contains("grpc-status:0") || response.contains("grpc-status: 0");
+    (wire::http1_status(&response), computed)
+}
+
+/// What the access log said of calls the client abandoned.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct AbandonedFigures {
+    /// Logged status of a call reset while its message was half sent.
+    pub reset_mid_request: Option<String>,
+    /// Logged status of a batch reset while the server computed it.
+    pub reset_mid_compute: Option<String>,
+}
+
+/// Finding 7, last part: calls the client abandons (RST_STREAM CANCEL), as
+/// the server's access log records them.
+pub async fn abandoned_calls(server: &ServerProcess) -> AbandonedFigures {
+    let address = server.address;
+    let send = wire::h2_connect(address).await.expect("connection");
+    let message = wire::grpc_frame(&inputs::batch(2_000));
+
+    let half = message.slice(..message.len() / 2);
+    let mut ready = send.clone().ready().await.expect("ready");
+    let request = wire::grpc_request(
+        address,
+        wire::BATCH_SATURATION_PATH,
+        &[("x-request-id", "abandoned-mid-request")],
+    );
+    let (_response, mut body) = ready.send_request(request, false).expect("send");
+    let _ = body.send_data(half, false);
+    tokio::time::sleep(Duration::from_millis(200)).await;
+    body.send_reset(h2::Reason::CANCEL);
+
+    let big = wire::grpc_frame(&inputs::batch(10_000));
+    let mut ready = send.clone().ready().await.expect("ready");
+    let request = wire::grpc_request(
+        address,
+        wire::BATCH_SATURATION_PATH,
+        &[("x-request-id", "abandoned-mid-compute")],
+    );
+    let (_response, mut body) = ready.send_request(request, false).expect("send");
+    let _ = body.send_data(big, true);
+    tokio::time::sleep(Duration::from_millis(5)).await;
+    body.send_reset(h2::Reason::CANCEL);
+
+    let logged = |id: &str| {
+        server
+            .call_lines()
+            .iter()
+            .find(|l| l["request_id"] == id)
+            .and_then(|l| l["status"].as_str().map(str::to_owned))
+    };
+    let deadline = Instant::now() + Duration::from_secs(15);
+    while Instant::now() < deadline
+        && (logged("abandoned-mid-request").is_none() || logged("abandoned-mid-compute").is_none())
+    {
+        tokio::time::sleep(Duration::from_millis(50)).await;
+    }
+    AbandonedFigures {
+        reset_mid_request: logged("abandoned-mid-request"),
+        reset_mid_compute: logged("abandoned-mid-compute"),
+    }
+}
+
+/// One honest ListModels call through the main listener on a fresh
+/// connection (a server still serves after an attack).
+pub async fn still_serves(server: &ServerProcess) -> bool {
+    let Ok(channel) = oxbind_client::connect(server.uri()).await else {
+        return false;
+    };
+    ModelCatalogServiceClient::new(channel)
+        .list_models(ListModelsRequest::default())
+        .await
+        .is_ok()
+}

@@ -1,0 +1,264 @@
+//! `oxbind-abuse`: run one attack of the abuse suite against a fresh
+//! `oxbind-server` process and print its figures as JSON.
+//!
+//! ```text
+//! oxbind-abuse --server-bin target/release/oxbind-server batch-flood
+//! oxbind-abuse --server-bin target/release/oxbind-server --server-arg=--grpc-web protocol
+//! ```
+//!
+//! Each attack starts its own server (so its peak resident memory is the
+//! attack's), on loopback port 0, with a plaintext health listener on port 0
+//! that the health prober uses, as a kubelet would.
+
+use std::{path::PathBuf, time::Duration};
+
+use clap::{Parser, Subcommand};
+use oxbind_abuse::{
+    attacks::{self, HonestClient},
+    server::{server_binary, ServerOptions, ServerProcess},
+    tls::MutualTls,
+};
+use serde_json::json;
+
+/// Run one attack of the abuse suite and print its figures.
+#[derive(Debug, Parser)]
+#[command(name = "oxbind-abuse", version)]
+struct Cli {
+    /// The server binary (default: `oxbind-server` beside this one).
+    #[arg(long, value_name = "PATH")]
+    server_bin: Option<PathBuf>,
+    /// An extra argument for the server (repeat for more), e.g.
+    /// `--server-arg=--max-connections=64`.
+    #[arg(long = "server-arg", value_name = "ARG", allow_hyphen_values = true)]
+    server_args: Vec<String>,
+    /// Start the server under this open-file limit (`ulimit -n`).
+    #[arg(long, value_name = "COUNT")]
+    open_file_limit: Option<u64>,
+    #[command(subcommand)]
+    attack: Attack,
+}
+
+#[derive(Debug, Subcommand)]
+enum Attack {
+    /// Idle server-reflection streams on one connection, then honest calls.
+    ReflectionStreams {
+        #[arg(long, default_value_t = 64)]
+        streams: usize,
+        #[arg(long, default_value_t = 20)]
+        calls: usize,
+        #[arg(long, default_value_t = 45.0)]
+        observe_s: f64,
+    },
+    /// Unary calls that send headers and no message, then honest calls.
+    HeadersOnly {
+        #[arg(long, default_value_t = 64)]
+        streams: usize,
+        #[arg(long, default_value_t = 20)]
+        calls: usize,
+        #[arg(long, default_value_t = 15.0)]
+        observe_s: f64,
+    },
+    /// Unary calls that send their message and never end the request.
+    UnendedRequests {
+        #[arg(long, default_value_t = 64)]
+        streams: usize,
+        #[arg(long, default_value_t = 20)]
+        calls: usize,
+        #[arg(long, default_value_t = 15.0)]
+        observe_s: f64,
+    },
+    /// TCP connections that never send a byte (main listener), then an
+    /// honest client; with --mutual-tls the server runs mutual TLS.
+    IdleSockets {
+        #[arg(long, default_value_t = 1_100)]
+        sockets: usize,
+        #[arg(long)]
+        mutual_tls: bool,
+        #[arg(long, default_value_t = 30.0)]
+        honest_limit_s: f64,
+        #[arg(long, default_value_t = 30.0)]
+        observe_s: f64,
+    },
+    /// HTTP/2 connections with no stream that answer every ping.
+    IdleConnections {
+        #[arg(long, default_value_t = 64)]
+        connections: usize,
+        #[arg(long, default_value_t = 150.0)]
+        observe_s: f64,
+    },
+    /// TCP connections to the health listener that never send a byte.
+    HealthSockets {
+        #[arg(long, default_value_t = 5_000)]
+        sockets: usize,
+        #[arg(long, default_value_t = 30.0)]
+        honest_limit_s: f64,
+        #[arg(long, default_value_t = 20.0)]
+        observe_s: f64,
+    },
+    /// Many full batches at once (provenance on each item).
+    BatchFlood {
+        #[arg(long, default_value_t = 64)]
+        concurrent: usize,
+        #[arg(long, default_value_t = 10_000)]
+        items: usize,
+        #[arg(long, default_value_t = 8)]
+        connections: usize,
+        #[arg(long, default_value_t = 2)]
+        rounds: usize,
+    },
+    /// Ten times the call limit at once.
+    Overload {
+        #[arg(long, default_value_t = 640)]
+        calls: usize,
+        #[arg(long, default_value_t = 8)]
+        connections: usize,
+    },
+    /// SIGTERM with a health Watch stream open.
+    ShutdownWatch {
+        #[arg(long, default_value_t = 30.0)]
+        limit_s: f64,
+    },
+    /// Wrong content types and methods, two messages on a unary call, a
+    /// grpc-web call from a disallowed origin (the server gets --grpc-web
+    /// and one allowed origin), abandoned calls.
+    Protocol,
+}
+
+/// The origin the protocol attack's server allows.
+const ALLOWED_ORIGIN: &str = "https://dashboard.larchmere.example";
+
+#[tokio::main]
+async fn main() {
+    let cli = Cli::parse();
+    let binary = cli.server_bin.clone().unwrap_or_else(server_binary);
+    let mut options = ServerOptions::with_args(cli.server_args.clone()).health_listener();
+    if let Some(limit) = cli.open_file_limit {
+        options = options.open_file_limit(limit);
+    }
+    let secs = Duration::from_secs_f64;
+    let figures = match cli.attack {
+        Attack::ReflectionStreams {
+            streams,
+            calls,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::idle_reflection_streams(&server, streams, calls, secs(observe_s)).await)
+        }
+        Attack::HeadersOnly {
+            streams,
+            calls,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::headers_only_streams(&server, streams, calls, secs(observe_s)).await)
+        }
+        Attack::UnendedRequests {
+            streams,
+            calls,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::unended_requests(&server, streams, calls, secs(observe_s)).await)
+        }
+        Attack::IdleSockets {
+            sockets,
+            mutual_tls,
+            honest_limit_s,
+            observe_s,
+        } => {
+            let dir = std::env::temp_dir().join(format!("oxbind-abuse-{}", std::process::id()));
+            let (server, honest) = if mutual_tls {
+                let tls = MutualTls::create(&dir);
+                options.args.extend(tls.server_args.clone());
+                let server = ServerProcess::start(&binary, &options);
+                let honest = HonestClient::MutualTls {
+                    uri: format!("https://localhost:{}", server.address.port()),
+                    ca_pem: tls.ca_pem,
+                    identity: tls.client,
+                };
+                (server, honest)
+            } else {
+                let server = ServerProcess::start(&binary, &options);
+                let honest = HonestClient::Plain(server.uri());
+                (server, honest)
+            };
+            let target = server.address;
+            let figures = attacks::idle_sockets(
+                &server,
+                target,
+                sockets,
+                honest,
+                secs(honest_limit_s),
+                secs(observe_s),
+            )
+            .await;
+            let _ = std::fs::remove_dir_all(dir);
+            json!(figures)
+        }
+        Attack::IdleConnections {
+            connections,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::idle_connections(&server, connections, secs(observe_s)).await)
+        }
+        Attack::HealthSockets {
+            sockets,
+            honest_limit_s,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            let target = server.health_address.expect("health listener");
+            let honest = HonestClient::Plain(server.uri());
+            let figures = attacks::idle_sockets(
+                &server,
+                target,
+                sockets,
+                honest,
+                secs(honest_limit_s),
+                secs(observe_s),
+            )
+            .await;
+            json!({ "attack": figures, "still_serves_after": attacks::still_serves(&server).await })
+        }
+        Attack::BatchFlood {
+            concurrent,
+            items,
+            connections,
+            rounds,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::batch_flood(&server, concurrent, items, connections, rounds).await)
+        }
+        Attack::Overload { calls, connections } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::overload(&server, calls, connections).await)
+        }
+        Attack::ShutdownWatch { limit_s } => {
+            let mut server = ServerProcess::start(&binary, &options);
+            json!(attacks::shutdown_with_watch(&mut server, secs(limit_s)).await)
+        }
+        Attack::Protocol => {
+            options.args.extend([
+                "--grpc-web".to_owned(),
+                format!("--cors-allowed-origins={ALLOWED_ORIGIN}"),
+            ]);
+            let server = ServerProcess::start(&binary, &options);
+            let http2 = attacks::protocol_http2(&server).await;
+            let allowed = attacks::grpc_web_from_origin(&server, ALLOWED_ORIGIN).await;
+            let other = attacks::grpc_web_from_origin(&server, "https://elsewhere.example").await;
+            let abandoned = attacks::abandoned_calls(&server).await;
+            json!({
+                "http2": http2,
+                "grpc_web_allowed_origin": { "http_status": allowed.0, "computed": allowed.1 },
+                "grpc_web_disallowed_origin": { "http_status": other.0, "computed": other.1 },
+                "abandoned": abandoned,
+            })
+        }
+    };
+    println!(
+        "{}",
+        serde_json::to_string_pretty(&figures).expect("figures serialize")
+    );
+}
