@@ -3,8 +3,9 @@
 //! [`serve`] takes the listener and any shutdown future, so the binary passes a
 //! real socket and the OS signals, and tests pass port 0 and a oneshot.
 
-use std::{future::Future, time::Duration};
+use std::{convert::Infallible, future::Future, time::Duration};
 
+use http::{Request, Response};
 use oxbind_proto::{
     service_names,
     v1::{
@@ -15,40 +16,62 @@ use oxbind_proto::{
     FILE_DESCRIPTOR_SET,
 };
 use tokio::net::TcpListener;
-use tonic::transport::{server::TcpIncoming, Certificate, Identity, Server, ServerTlsConfig};
+use tokio_util::sync::CancellationToken;
+use tonic::{body::Body, service::Routes};
 use tonic_health::{server::HealthReporter, ServingStatus};
-use tower::util::option_layer;
+use tower::{
+    util::{option_layer, BoxCloneService, MapResponseLayer},
+    ServiceBuilder,
+};
 
 use crate::{
     api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
-    layers::{call::CallLayer, connections::limited_incoming, web},
+    layers::{
+        admission::Admission,
+        call::CallLayer,
+        compute::{ComputeLayer, ComputePool},
+        connections::{self, ListenerSettings},
+        grpc_strict::GrpcStrictLayer,
+        panic, protocol,
+        request_gate::{RequestGateLayer, MAX_HEALTH_MESSAGE_BYTES},
+        streaming::StreamingLayer,
+        tls, web,
+    },
 };
 
 /// How long the health listener may take to close after the main listener
 /// has drained.
 pub const HEALTH_LISTENER_STOP: Duration = Duration::from_secs(1);
 
+/// Concurrent HTTP/2 streams per connection on the health listener (a
+/// kubelet probe sends one check per connection).
+pub const HEALTH_MAX_CONCURRENT_STREAMS: u32 = 8;
+
+/// Largest server-reflection request message, in bytes (a request names one
+/// file or symbol).
+pub const MAX_REFLECTION_MESSAGE_BYTES: usize = 16 * 1024;
+
 /// Why the server stopped with an error.
 #[derive(Debug)]
 pub enum ServeError {
     /// The reflection service could not be built from the descriptor sets.
     Reflection(tonic_reflection::server::Error),
-    /// The transport failed.
-    Transport(tonic::transport::Error),
     /// The TLS material could not be read or used.
     Tls(String),
     /// The health listener could not be bound.
     HealthBind(std::io::Error),
+    /// The compute pool's threads could not be started.
+    Compute(std::io::Error),
 }
 
 impl std::fmt::Display for ServeError {
     fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
         match self {
             ServeError::Reflection(e) => write!(f, "cannot build the reflection service: {e}"),
-            ServeError::Transport(e) => write!(f, "transport error: {e}"),
             ServeError::Tls(e) => write!(f, "cannot set up TLS: {e}"),
             ServeError::HealthBind(e) => write!(f, "cannot bind the health listener: {e}"),
+            ServeError::Compute(e) => write!(f, "cannot start the compute pool: {e}"),
         }
     }
 }
@@ -64,13 +87,18 @@ pub const HEALTH_NAMES: [&str; 4] = [
     service_names::MODEL_CATALOG,
 ];
 
+/// A per-request service as the listeners serve it: any request in, an
+/// answer out, never an error (every failure is an answer).
+pub type RequestService = BoxCloneService<Request<Body>, Response<Body>, Infallible>;
+
 /// Serve the v1 services, health and reflection on `listener` until
 /// `shutdown` completes; when `config.health_listen` is set, also bind it and
 /// serve plaintext health there.
 ///
-/// On shutdown every health status turns NOT_SERVING at once, the server stops
-/// accepting connections, and calls in flight get `config.shutdown_grace` to
-/// finish; connections still open after that are closed.
+/// On shutdown every health status turns NOT_SERVING at once, streaming
+/// calls end, the server stops accepting connections, and calls in flight
+/// get `config.shutdown_grace` to finish; connections still open after that
+/// are closed.
 pub async fn serve<F>(listener: TcpListener, config: Config, shutdown: F) -> Result<(), ServeError>
 where
     F: Future<Output = ()> + Send + 'static,
@@ -98,59 +126,27 @@ where
     F: Future<Output = ()> + Send + 'static,
 {
     let (reporter, health_service) = tonic_health::server::health_reporter();
-    // Reflection in both protocol versions: v1, and v1alpha for the many
-    // tools (grpcio-reflection's client among them) that still speak only it.
-    let reflection_builder = || {
-        tonic_reflection::server::Builder::configure()
-            .register_encoded_file_descriptor_set(FILE_DESCRIPTOR_SET)
-            .register_encoded_file_descriptor_set(tonic_types::pb::FILE_DESCRIPTOR_SET)
-            .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
-    };
-    let (reflection, reflection_v1alpha) = if config.no_reflection {
-        (None, None)
-    } else {
-        (
-            Some(
-                reflection_builder()
-                    .build_v1()
-                    .map_err(ServeError::Reflection)?,
-            ),
-            Some(
-                reflection_builder()
-                    .build_v1alpha()
-                    .map_err(ServeError::Reflection)?,
-            ),
-        )
-    };
-    let tls = tls_config(&config)?;
+    let health_service = health_service.max_decoding_message_size(MAX_HEALTH_MESSAGE_BYTES);
+    let tls = tls_acceptor(&config)?;
+    let compute = ComputePool::new(config.compute_threads()).map_err(ServeError::Compute)?;
+    // Cancelled when the drain begins: streaming calls end then.
+    let draining = CancellationToken::new();
+    let admission = Admission::new(
+        config.max_concurrent_calls,
+        config.max_items_in_flight,
+        config.max_request_bytes_in_flight,
+    );
 
-    let mut builder = Server::builder()
-        .max_concurrent_streams(config.max_concurrent_streams)
-        .http2_keepalive_interval(Some(config.keepalive_interval))
-        .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        .accept_http1(config.grpc_web);
-    if let Some(tls) = tls {
-        builder = builder
-            .tls_config(tls)
-            .map_err(|e| ServeError::Tls(e.to_string()))?;
+    let mut routes = Routes::builder();
+    routes.add_service(health_service.clone());
+    if !config.no_reflection {
+        add_reflection(&mut routes)?;
     }
-    let cors = config
-        .grpc_web
-        .then(|| web::cors_layer(&config.cors_allowed_origins));
-    let grpc_web = config.grpc_web.then(web::grpc_web_layer);
-    let decode = config.max_decoded_message_bytes;
-    let encode = config.max_encoded_message_bytes;
-
-    let router = builder
-        .layer(option_layer(cors))
-        .layer(option_layer(grpc_web))
-        .layer(CallLayer::new(
-            config.max_concurrent_calls,
-            config.call_timeout,
-        ))
-        .add_service(health_service.clone())
-        .add_optional_service(reflection)
-        .add_optional_service(reflection_v1alpha)
+    let (decode, encode) = (
+        config.max_decoded_message_bytes,
+        config.max_encoded_message_bytes,
+    );
+    routes
         .add_service(
             DissociationServiceServer::new(DissociationApi::new(config.max_batch_items))
                 .max_decoding_message_size(decode)
@@ -167,32 +163,63 @@ where
                 .max_encoding_message_size(encode),
         );
 
+    // Everything only gRPC and grpc-web requests see.
+    let grpc = grpc_stack(
+        &config,
+        &admission,
+        compute.layer(),
+        &draining,
+        routes.routes().prepare(),
+    );
+    // Everything every request sees, whatever its protocol. A dispatch by
+    // protocol (Connect, FHIR) goes between `CallLayer` and `grpc`, so that
+    // every door gets the same request id, deadline and log line, and only
+    // gRPC requests get gRPC's strictness.
+    let cors = config
+        .grpc_web
+        .then(|| web::cors_layer(&config.cors_allowed_origins));
+    let service: RequestService = BoxCloneService::new(
+        ServiceBuilder::new()
+            .option_layer(cors)
+            .layer(CallLayer::new(config.call_timeout))
+            .service(grpc),
+    );
+
     set_all(&reporter, ServingStatus::Serving).await;
 
     // The plaintext health listener: grpc.health.v1 only, no reflection, no
-    // TLS, no limits; it answers NOT_SERVING through the drain.
+    // TLS; never refused for load; it answers NOT_SERVING through the drain.
     let (health_stop_tx, health_stop_rx) = tokio::sync::oneshot::channel::<()>();
-    let health_task = match health_listener {
-        Some(health_listener) => {
-            if let Ok(address) = health_listener.local_addr() {
-                tracing::info!(%address, "serving health");
-            }
-            let incoming = TcpIncoming::from(health_listener).with_nodelay(Some(true));
-            Some(tokio::spawn(
-                Server::builder()
-                    .add_service(health_service)
-                    .serve_with_incoming_shutdown(incoming, async move {
-                        let _ = health_stop_rx.await;
-                    }),
-            ))
+    let health_task = health_listener.map(|health_listener| {
+        if let Ok(address) = health_listener.local_addr() {
+            tracing::info!(%address, "serving health");
         }
-        None => None,
-    };
+        let settings = ListenerSettings {
+            name: "health",
+            max_connections: config.max_health_connections,
+            tls: None,
+            accept_http1: false,
+            max_concurrent_streams: HEALTH_MAX_CONCURRENT_STREAMS,
+            ..listener_settings(&config)
+        };
+        let stack = health_stack(&config, &admission, &draining, Routes::new(health_service));
+        tokio::spawn(connections::serve(
+            health_listener,
+            settings,
+            stack,
+            async move {
+                let _ = health_stop_rx.await;
+            },
+        ))
+    });
 
     if let Ok(address) = listener.local_addr() {
         tracing::info!(%address, "serving");
     }
-    let incoming = limited_incoming(listener, config.max_connections);
+    let settings = ListenerSettings {
+        tls,
+        ..listener_settings(&config)
+    };
 
     let (drain_started_tx, drain_started_rx) = tokio::sync::oneshot::channel::<()>();
     let drain_reporter = reporter.clone();
@@ -200,66 +227,164 @@ where
         shutdown.await;
         set_all(&drain_reporter, ServingStatus::NotServing).await;
         tracing::info!("health NOT_SERVING; draining calls in flight");
+        draining.cancel();
         let _ = drain_started_tx.send(());
     };
 
-    let server = router.serve_with_incoming_shutdown(incoming, stop_accepting);
+    let server = connections::serve(listener, settings, service, stop_accepting);
     tokio::pin!(server);
-    let outcome = tokio::select! {
-        result = &mut server => result.map_err(ServeError::Transport),
+    tokio::select! {
+        () = &mut server => {}
         Ok(()) = drain_started_rx => bounded_drain(&mut server, config.shutdown_grace).await,
-    };
+    }
 
     if let Some(task) = health_task {
         let _ = health_stop_tx.send(());
         let abort = task.abort_handle();
-        match tokio::time::timeout(HEALTH_LISTENER_STOP, task).await {
-            Ok(Ok(Ok(()))) => {}
-            Ok(Ok(Err(error))) => tracing::warn!(%error, "health listener failed"),
-            Ok(Err(_)) => {}
-            Err(_) => abort.abort(),
+        if tokio::time::timeout(HEALTH_LISTENER_STOP, task)
+            .await
+            .is_err()
+        {
+            abort.abort();
         }
     }
-    outcome?;
+    compute.shut_down();
     tracing::info!("stopped");
     Ok(())
 }
 
-/// The TLS configuration `config` asks for: none, TLS, or mutual TLS.
-fn tls_config(config: &Config) -> Result<Option<ServerTlsConfig>, ServeError> {
+/// The main listener's connection settings from `config` (its TLS is set
+/// apart).
+fn listener_settings(config: &Config) -> ListenerSettings {
+    ListenerSettings {
+        name: "main",
+        max_connections: config.max_connections,
+        tls: None,
+        tls_handshake_timeout: config.tls_handshake_timeout,
+        preface_timeout: config.preface_timeout,
+        idle_timeout: config.idle_timeout,
+        max_connection_age: config.max_connection_age,
+        max_connection_age_grace: config.max_connection_age_grace,
+        accept_http1: protocol::accepts_http1(config),
+        max_concurrent_streams: config.max_concurrent_streams,
+        keepalive_interval: config.keepalive_interval,
+        keepalive_timeout: config.keepalive_timeout,
+    }
+}
+
+/// The layers only gRPC requests see, around the routes (outermost first):
+/// strictness, grpc-web translation, panics, streaming limits, the request
+/// gate and admission, the compute pool.
+fn grpc_stack(
+    config: &Config,
+    admission: &Admission,
+    compute: ComputeLayer,
+    draining: &CancellationToken,
+    routes: Routes,
+) -> RequestService {
+    let grpc_web = config.grpc_web.then(web::grpc_web_layer);
+    let stack = ServiceBuilder::new()
+        .layer(GrpcStrictLayer::new(
+            config.grpc_web,
+            &config.cors_allowed_origins,
+        ))
+        .layer(option_layer(grpc_web))
+        .layer(MapResponseLayer::new(|r: Response<_>| r.map(Body::new)))
+        .layer(panic::catch_panic_layer())
+        .layer(StreamingLayer::new(
+            config.max_streaming_calls,
+            config.streaming_idle_timeout,
+            draining.clone(),
+        ))
+        .layer(RequestGateLayer::new(
+            admission.clone(),
+            config.request_arrival_timeout,
+            config.max_decoded_message_bytes,
+        ))
+        .layer(compute)
+        .service(routes);
+    BoxCloneService::new(stack)
+}
+
+/// The health listener's layers: the same strictness, panic catching,
+/// streaming limits (for Watch) and request gate (health is never refused
+/// for load, but its request must arrive in time).
+fn health_stack(
+    config: &Config,
+    admission: &Admission,
+    draining: &CancellationToken,
+    routes: Routes,
+) -> RequestService {
+    let stack = ServiceBuilder::new()
+        .layer(GrpcStrictLayer::new(false, &[]))
+        .layer(MapResponseLayer::new(|r: Response<_>| r.map(Body::new)))
+        .layer(panic::catch_panic_layer())
+        .layer(StreamingLayer::new(
+            config.max_streaming_calls,
+            config.streaming_idle_timeout,
+            draining.clone(),
+        ))
+        .layer(RequestGateLayer::new(
+            admission.clone(),
+            config.request_arrival_timeout,
+            config.max_decoded_message_bytes,
+        ))
+        .service(routes.prepare());
+    BoxCloneService::new(stack)
+}
+
+/// Server reflection in both protocol versions: v1, and v1alpha for the
+/// many tools (grpcio-reflection's client among them) that still speak only
+/// it.
+fn add_reflection(routes: &mut tonic::service::RoutesBuilder) -> Result<(), ServeError> {
+    let builder = || {
+        tonic_reflection::server::Builder::configure()
+            .register_encoded_file_descriptor_set(FILE_DESCRIPTOR_SET)
+            .register_encoded_file_descriptor_set(tonic_types::pb::FILE_DESCRIPTOR_SET)
+            .register_encoded_file_descriptor_set(tonic_health::pb::FILE_DESCRIPTOR_SET)
+    };
+    let v1 = builder().build_v1().map_err(ServeError::Reflection)?;
+    let v1alpha = builder().build_v1alpha().map_err(ServeError::Reflection)?;
+    routes
+        .add_service(v1.max_decoding_message_size(MAX_REFLECTION_MESSAGE_BYTES))
+        .add_service(v1alpha.max_decoding_message_size(MAX_REFLECTION_MESSAGE_BYTES));
+    Ok(())
+}
+
+/// The TLS acceptor `config` asks for: none, TLS, or mutual TLS.
+fn tls_acceptor(config: &Config) -> Result<Option<tokio_rustls::TlsAcceptor>, ServeError> {
     let (Some(cert), Some(key)) = (&config.tls_cert, &config.tls_key) else {
         return Ok(None);
     };
     let read = |flag: &str, path: &std::path::Path| {
         std::fs::read(path).map_err(|e| ServeError::Tls(format!("{flag} {}: {e}", path.display())))
     };
-    let identity = Identity::from_pem(read("--tls-cert", cert)?, read("--tls-key", key)?);
-    let mut tls = ServerTlsConfig::new().identity(identity);
-    if let Some(ca) = &config.client_ca {
-        tls = tls.client_ca_root(Certificate::from_pem(read("--client-ca", ca)?));
-    }
-    Ok(Some(tls))
+    let client_ca = match &config.client_ca {
+        Some(path) => Some(read("--client-ca", path)?),
+        None => None,
+    };
+    tls::acceptor(
+        &read("--tls-cert", cert)?,
+        &read("--tls-key", key)?,
+        client_ca.as_deref(),
+        protocol::accepts_http1(config),
+    )
+    .map(Some)
+    .map_err(ServeError::Tls)
 }
 
-/// Let the graceful drain run for at most `grace`: tonic waits for every open
-/// connection to close, which a client holding a connection open would make
-/// last forever.
-async fn bounded_drain<S>(
-    server: &mut std::pin::Pin<&mut S>,
-    grace: Duration,
-) -> Result<(), ServeError>
+/// Let the graceful drain run for at most `grace`: every connection has its
+/// GOAWAY, and those still open after it (a client holding a connection
+/// open) are closed when the server future is dropped.
+async fn bounded_drain<S>(server: &mut std::pin::Pin<&mut S>, grace: Duration)
 where
-    S: Future<Output = Result<(), tonic::transport::Error>>,
+    S: Future<Output = ()>,
 {
-    match tokio::time::timeout(grace, server.as_mut()).await {
-        Ok(result) => result.map_err(ServeError::Transport),
-        Err(_) => {
-            tracing::warn!(
-                grace_ms = grace.as_millis() as u64,
-                "grace period over; closing the connections still open"
-            );
-            Ok(())
-        }
+    if tokio::time::timeout(grace, server.as_mut()).await.is_err() {
+        tracing::warn!(
+            grace_ms = grace.as_millis() as u64,
+            "grace period over; closing the connections still open"
+        );
     }
 }
 

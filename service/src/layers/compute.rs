@@ -1,0 +1,141 @@
+//! The compute pool: calls with much work (a batch, a long curve, many
+//! pairs) are decoded, computed and answered on a runtime of their own, a
+//! fixed number of threads (`--compute-threads`, default one per core), so
+//! that the threads that accept connections and answer health checks are
+//! never busy with a batch. The operating system shares the cores between
+//! the two; a health check waits at most one scheduler time slice, not a
+//! batch.
+//!
+//! Single calls (about a microsecond of work each) stay where they are:
+//! moving them would cost more than it saves. The gate marks a call's work
+//! ([`super::request_gate::Work`]) before it gets here.
+//!
+//! A panic in a handler running on the pool is carried back to the calling
+//! task, where the panic layer above catches it as it would any other.
+
+use std::{
+    future::Future,
+    pin::Pin,
+    task::{Context, Poll},
+};
+
+use http::{Request, Response};
+use tokio::runtime::{Handle, Runtime};
+use tonic::body::Body;
+use tower::{Layer, Service};
+
+use super::{request_gate::Work, statuses};
+
+/// Calls of at least this many items run on the compute pool.
+pub const OFFLOAD_MIN_ITEMS: u64 = 32;
+
+/// Name of the pool's threads (as `top -H` shows them).
+const THREAD_NAME: &str = "oxbind-compute";
+
+/// The compute runtime. Shut it down with [`ComputePool::shut_down`] (it may
+/// not be dropped inside another runtime).
+#[derive(Debug)]
+pub struct ComputePool {
+    runtime: Runtime,
+}
+
+impl ComputePool {
+    /// A pool of `threads` threads.
+    ///
+    /// # Errors
+    ///
+    /// When the operating system refuses the threads.
+    pub fn new(threads: usize) -> std::io::Result<Self> {
+        let runtime = tokio::runtime::Builder::new_multi_thread()
+            .worker_threads(threads.max(1))
+            .thread_name(THREAD_NAME)
+            .enable_time()
+            .build()?;
+        Ok(Self { runtime })
+    }
+
+    /// The layer that sends large calls to this pool.
+    pub fn layer(&self) -> ComputeLayer {
+        ComputeLayer {
+            handle: self.runtime.handle().clone(),
+        }
+    }
+
+    /// Stop the pool without waiting for its tasks (calls still on it are
+    /// dropped, as the connections they answer are closed too).
+    pub fn shut_down(self) {
+        self.runtime.shutdown_background();
+    }
+}
+
+/// Sends large calls to the compute pool.
+#[derive(Debug, Clone)]
+pub struct ComputeLayer {
+    handle: Handle,
+}
+
+impl<S> Layer<S> for ComputeLayer {
+    type Service = Compute<S>;
+
+    fn layer(&self, inner: S) -> Self::Service {
+        Compute {
+            inner,
+            handle: self.handle.clone(),
+        }
+    }
+}
+
+/// The service [`ComputeLayer`] makes.
+#[derive(Debug, Clone)]
+pub struct Compute<S> {
+    inner: S,
+    handle: Handle,
+}
+
+impl<S> Service<Request<Body>> for Compute<S>
+where
+    S: Service<Request<Body>, Response = Response<Body>> + Clone + Send + 'static,
+    S::Future: Send + 'static,
+    S::Error: Send + 'static,
+{
+    type Response = Response<Body>;
+    type Error = S::Error;
+    type Future = Pin<Box<dyn Future<Output = Result<Response<Body>, S::Error>> + Send>>;
+
+    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
+        self.inner.poll_ready(cx)
+    }
+
+    fn call(&mut self, request: Request<Body>) -> Self::Future {
+        let heavy = request
+            .extensions()
+            .get::<Work>()
+            .is_some_and(|work| work.0 >= OFFLOAD_MIN_ITEMS);
+        let clone = self.inner.clone();
+        let mut inner = std::mem::replace(&mut self.inner, clone);
+        if !heavy {
+            return Box::pin(inner.call(request));
+        }
+        let task = self.handle.spawn(inner.call(request));
+        Box::pin(async move {
+            // Abandoned by the client: stop the task at its next await (a
+            // handler computing a batch finishes that first).
+            let mut task = AbortOnDrop(task);
+            match (&mut task.0).await {
+                Ok(result) => result,
+                Err(error) if error.is_panic() => std::panic::resume_unwind(error.into_panic()),
+                // Cancelled: the pool is shutting down with the server.
+                Err(_) => Ok(statuses::shutting_down().into_http()),
+            }
+        })
+    }
+}
+
+/// Aborts a pool task whose caller went away.
+struct AbortOnDrop<T>(tokio::task::JoinHandle<T>);
+
+impl<T> Drop for AbortOnDrop<T> {
+    fn drop(&mut self) {
+        self.0.abort();
+    }
+}
