@@ -44,6 +44,9 @@ use crate::{
 /// has drained.
 pub const HEALTH_LISTENER_STOP: Duration = Duration::from_secs(1);
 
+/// Name of the health listener's thread.
+const HEALTH_THREAD_NAME: &str = "oxbind-health";
+
 /// Concurrent HTTP/2 streams per connection on the health listener (a
 /// kubelet probe sends one check per connection).
 pub const HEALTH_MAX_CONCURRENT_STREAMS: u32 = 8;
@@ -189,29 +192,33 @@ where
 
     // The plaintext health listener: grpc.health.v1 only, no reflection, no
     // TLS; never refused for load; it answers NOT_SERVING through the drain.
+    // It runs on a thread of its own, so that a probe never waits for the
+    // main listener's threads.
     let (health_stop_tx, health_stop_rx) = tokio::sync::oneshot::channel::<()>();
-    let health_task = health_listener.map(|health_listener| {
-        if let Ok(address) = health_listener.local_addr() {
-            tracing::info!(%address, "serving health");
+    let health_thread = match health_listener {
+        Some(health_listener) => {
+            if let Ok(address) = health_listener.local_addr() {
+                tracing::info!(%address, "serving health");
+            }
+            let settings = ListenerSettings {
+                name: "health",
+                max_connections: config.max_health_connections,
+                tls: None,
+                accept_http1: false,
+                max_concurrent_streams: HEALTH_MAX_CONCURRENT_STREAMS,
+                ..listener_settings(&config)
+            };
+            let stack = health_stack(&config, &admission, &draining, Routes::new(health_service));
+            let listener = health_listener.into_std().map_err(ServeError::HealthBind)?;
+            Some(spawn_health_thread(
+                listener,
+                settings,
+                stack,
+                health_stop_rx,
+            )?)
         }
-        let settings = ListenerSettings {
-            name: "health",
-            max_connections: config.max_health_connections,
-            tls: None,
-            accept_http1: false,
-            max_concurrent_streams: HEALTH_MAX_CONCURRENT_STREAMS,
-            ..listener_settings(&config)
-        };
-        let stack = health_stack(&config, &admission, &draining, Routes::new(health_service));
-        tokio::spawn(connections::serve(
-            health_listener,
-            settings,
-            stack,
-            async move {
-                let _ = health_stop_rx.await;
-            },
-        ))
-    });
+        None => None,
+    };
 
     if let Ok(address) = listener.local_addr() {
         tracing::info!(%address, "serving");
@@ -238,19 +245,53 @@ where
         Ok(()) = drain_started_rx => bounded_drain(&mut server, config.shutdown_grace).await,
     }
 
-    if let Some(task) = health_task {
+    if let Some(thread) = health_thread {
         let _ = health_stop_tx.send(());
-        let abort = task.abort_handle();
-        if tokio::time::timeout(HEALTH_LISTENER_STOP, task)
-            .await
-            .is_err()
-        {
-            abort.abort();
-        }
+        let _ = tokio::task::spawn_blocking(move || thread.join()).await;
     }
     compute.shut_down();
     tracing::info!("stopped");
     Ok(())
+}
+
+/// Serve the health listener on a thread with a runtime of its own until
+/// `stop`; then give its connections [`HEALTH_LISTENER_STOP`] to close.
+fn spawn_health_thread(
+    listener: std::net::TcpListener,
+    settings: ListenerSettings,
+    stack: RequestService,
+    stop: tokio::sync::oneshot::Receiver<()>,
+) -> Result<std::thread::JoinHandle<()>, ServeError> {
+    let runtime = tokio::runtime::Builder::new_current_thread()
+        .enable_all()
+        .build()
+        .map_err(ServeError::HealthBind)?;
+    std::thread::Builder::new()
+        .name(HEALTH_THREAD_NAME.to_owned())
+        .spawn(move || {
+            runtime.block_on(async move {
+                let listener = match TcpListener::from_std(listener) {
+                    Ok(listener) => listener,
+                    Err(error) => {
+                        tracing::error!(%error, "cannot serve the health listener");
+                        return;
+                    }
+                };
+                let (stopping_tx, stopping_rx) = tokio::sync::oneshot::channel::<()>();
+                let serve = connections::serve(listener, settings, stack, async move {
+                    let _ = stopping_rx.await;
+                });
+                tokio::pin!(serve);
+                tokio::select! {
+                    () = &mut serve => {}
+                    _ = stop => {
+                        let _ = stopping_tx.send(());
+                        let _ = tokio::time::timeout(HEALTH_LISTENER_STOP, serve).await;
+                    }
+                }
+            });
+        })
+        .map_err(ServeError::HealthBind)
 }
 
 /// The main listener's connection settings from `config` (its TLS is set

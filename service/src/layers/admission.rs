@@ -86,6 +86,19 @@ impl Admission {
             .map_err(|_| statuses::request_bytes_limit())
     }
 
+    /// Refuse at once if no call slot or no item of work is free now, before
+    /// a request is read any further (a hint, not a reservation: the call is
+    /// admitted, or not, by [`Admission::admit`] once its request is in).
+    pub fn precheck(&self) -> Result<(), Status> {
+        if self.inner.calls.available_permits() == 0 {
+            return Err(statuses::call_limit());
+        }
+        if self.inner.items.available_permits() == 0 {
+            return Err(statuses::work_limit());
+        }
+        Ok(())
+    }
+
     /// Admit a call of `items` items of work from `connection` (`None` for a
     /// request that came through no connection loop), or refuse it.
     pub fn admit(

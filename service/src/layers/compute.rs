@@ -10,6 +10,10 @@
 //! moving them would cost more than it saves. The gate marks a call's work
 //! ([`super::request_gate::Work`]) before it gets here.
 //!
+//! The answer is encoded on the pool too (the whole body is collected there,
+//! which costs no memory: a unary answer is encoded in one piece anyway), so
+//! the calling threads only copy bytes to the socket.
+//!
 //! A panic in a handler running on the pool is carried back to the calling
 //! task, where the panic layer above catches it as it would any other.
 
@@ -24,7 +28,9 @@ use tokio::runtime::{Handle, Runtime};
 use tonic::body::Body;
 use tower::{Layer, Service};
 
-use super::{request_gate::Work, statuses};
+use http_body_util::BodyExt;
+
+use super::{body::Buffered, request_gate::Work, statuses};
 
 /// Calls of at least this many items run on the compute pool.
 pub const OFFLOAD_MIN_ITEMS: u64 = 32;
@@ -116,7 +122,10 @@ where
         if !heavy {
             return Box::pin(inner.call(request));
         }
-        let task = self.handle.spawn(inner.call(request));
+        let task = self.handle.spawn(async move {
+            let response = inner.call(request).await?;
+            Ok(encoded(response).await)
+        });
         Box::pin(async move {
             // Abandoned by the client: stop the task at its next await (a
             // handler computing a batch finishes that first).
@@ -128,6 +137,20 @@ where
                 Err(_) => Ok(statuses::shutting_down().into_http()),
             }
         })
+    }
+}
+
+/// `response` with its body collected (encoded, for a gRPC answer) into
+/// memory.
+async fn encoded(response: Response<Body>) -> Response<Body> {
+    let (parts, body) = response.into_parts();
+    match body.collect().await {
+        Ok(collected) => {
+            let trailers = collected.trailers().cloned();
+            let body = Buffered::new(collected.to_bytes(), trailers);
+            Response::from_parts(parts, Body::new(body))
+        }
+        Err(status) => status.into_http(),
     }
 }
 

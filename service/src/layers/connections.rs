@@ -61,6 +61,7 @@ use tokio_util::either::Either;
 use tonic::body::Body;
 use tower::Service;
 
+use super::body::Holding;
 use crate::telemetry;
 
 /// Pause after a failed `accept` (for example out of file descriptors) before
@@ -485,12 +486,7 @@ where
         let mut inner = std::mem::replace(&mut self.inner, clone);
         Box::pin(async move {
             let response = inner.call(request).await?;
-            Ok(response.map(|body| {
-                Body::new(GuardedBody {
-                    inner: body,
-                    _guard: guard,
-                })
-            }))
+            Ok(response.map(|body| Body::new(Holding::new(body, guard))))
         })
     }
 }
@@ -508,36 +504,6 @@ impl CallGuard {
 impl Drop for CallGuard {
     fn drop(&mut self) {
         self.0.call_ended();
-    }
-}
-
-pin_project! {
-    /// A response body that keeps its call counted until it ends or is
-    /// dropped.
-    struct GuardedBody {
-        #[pin]
-        inner: Body,
-        _guard: CallGuard,
-    }
-}
-
-impl http_body::Body for GuardedBody {
-    type Data = tonic::codegen::Bytes;
-    type Error = tonic::Status;
-
-    fn poll_frame(
-        self: Pin<&mut Self>,
-        cx: &mut Context<'_>,
-    ) -> Poll<Option<Result<http_body::Frame<Self::Data>, Self::Error>>> {
-        self.project().inner.poll_frame(cx)
-    }
-
-    fn is_end_stream(&self) -> bool {
-        self.inner.is_end_stream()
-    }
-
-    fn size_hint(&self) -> http_body::SizeHint {
-        self.inner.size_hint()
     }
 }
 

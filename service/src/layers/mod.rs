@@ -18,9 +18,11 @@
 //!   (call slots, each connection's fair share, request bytes, [`work`]);
 //! - [`compute`]: large calls run on the compute pool.
 //!
-//! Every status these layers make up is in [`statuses`].
+//! Every status these layers make up is in [`statuses`]; the small bodies
+//! they share are in [`body`].
 
 pub mod admission;
+pub mod body;
 pub mod call;
 pub mod compute;
 pub mod connections;

@@ -13,6 +13,8 @@
 //!    bytes than the server holds at once (RESOURCE_EXHAUSTED; reserved
 //!    frame by frame as they arrive), a client that resets the stream
 //!    (logged as CANCELLED).
+//!    When its message's length is known and no call slot or no work is
+//!    free at that moment, the call is refused at once rather than read.
 //! 3. Count the request's work ([`super::work`]) from the encoded message
 //!    and ask [`Admission`] for a call slot, the connection's share and the
 //!    work; refuse at once if any is short.
@@ -33,15 +35,14 @@ use std::{
 };
 
 use http::{HeaderMap, Request, Response};
-use http_body::Frame;
 use http_body_util::BodyExt;
-use pin_project_lite::pin_project;
 use tokio::sync::OwnedSemaphorePermit;
 use tonic::{body::Body, codegen::Bytes, Status};
 use tower::{Layer, Service};
 
 use super::{
-    admission::{Admission, Admitted},
+    admission::Admission,
+    body::{Buffered, Holding},
     connections::ConnectionHandle,
     protocol::{call_kind, CallKind},
     statuses, work,
@@ -165,12 +166,7 @@ where
             } = received;
             let request = request.map(|()| Body::new(Buffered::new(bytes, trailers)));
             let response = inner.call(request).await?;
-            Ok(response.map(|body| {
-                Body::new(HoldingBody {
-                    inner: body,
-                    _held: (admitted, reserved),
-                })
-            }))
+            Ok(response.map(|body| Body::new(Holding::new(body, (admitted, reserved)))))
         })
     }
 }
@@ -247,6 +243,10 @@ async fn read_request(
             if length > limit {
                 return Err(statuses::message_too_large(length, limit));
             }
+            // The server is full now: refuse before reading the rest.
+            if let Some(admission) = admission {
+                admission.precheck()?;
+            }
             buffer.reserve_exact((GRPC_FRAME_PREFIX_BYTES + length).saturating_sub(buffer.len()));
             received.length = Some(length);
         }
@@ -260,76 +260,10 @@ async fn read_request(
     Ok(received)
 }
 
-/// A request body that is already in memory: the bytes, then the
-/// trailers, if any.
-struct Buffered {
-    data: Option<Bytes>,
-    trailers: Option<HeaderMap>,
-}
-
-impl Buffered {
-    fn new(data: Bytes, trailers: Option<HeaderMap>) -> Self {
-        Self {
-            data: (!data.is_empty()).then_some(data),
-            trailers,
-        }
-    }
-}
-
-impl http_body::Body for Buffered {
-    type Data = Bytes;
-    type Error = Status;
-
-    fn poll_frame(
-        mut self: Pin<&mut Self>,
-        _cx: &mut Context<'_>,
-    ) -> Poll<Option<Result<Frame<Bytes>, Status>>> {
-        if let Some(data) = self.data.take() {
-            return Poll::Ready(Some(Ok(Frame::data(data))));
-        }
-        Poll::Ready(self.trailers.take().map(|t| Ok(Frame::trailers(t))))
-    }
-
-    fn is_end_stream(&self) -> bool {
-        self.data.is_none() && self.trailers.is_none()
-    }
-}
-
-pin_project! {
-    /// A response body that holds what the call was given until it ends.
-    pub struct HoldingBody<T> {
-        #[pin]
-        inner: Body,
-        _held: T,
-    }
-}
-
-impl<T> http_body::Body for HoldingBody<T> {
-    type Data = Bytes;
-    type Error = Status;
-
-    fn poll_frame(
-        self: Pin<&mut Self>,
-        cx: &mut Context<'_>,
-    ) -> Poll<Option<Result<Frame<Bytes>, Status>>> {
-        self.project().inner.poll_frame(cx)
-    }
-
-    fn is_end_stream(&self) -> bool {
-        self.inner.is_end_stream()
-    }
-
-    fn size_hint(&self) -> http_body::SizeHint {
-        self.inner.size_hint()
-    }
-}
-
-/// What an admitted call holds (for the type of its body).
-pub type Held = (Option<Admitted>, Option<OwnedSemaphorePermit>);
-
 #[cfg(test)]
 mod tests {
     use super::*;
+    use http_body::Frame;
     use tonic::Code;
 
     fn frame(message: &[u8]) -> Vec<u8> {

@@ -131,31 +131,67 @@ pub struct StreamsFigures {
     pub memory: Memory,
 }
 
-/// Open `streams` streams to `path` on one connection, sending `first`
-/// (if any) and never ending the request; then make `calls` honest calls on
-/// another connection; then watch the held streams for `observe`.
+/// How an attacker holds streams open.
+#[derive(Debug, Clone, Copy)]
+pub struct StreamHold {
+    /// Streams to open.
+    pub streams: usize,
+    /// Connections to spread them over.
+    pub connections: usize,
+    /// Bytes of padding metadata on each stream (0: none).
+    pub header_bytes: usize,
+}
+
+impl StreamHold {
+    /// `streams` streams on one connection, no padding.
+    pub fn on_one_connection(streams: usize) -> Self {
+        Self {
+            streams,
+            connections: 1,
+            header_bytes: 0,
+        }
+    }
+}
+
+/// Open `hold.streams` streams to `path` over `hold.connections`
+/// connections, sending `first` (if any) and never ending the request; then
+/// make `calls` honest calls on another connection; then watch the held
+/// streams for `observe`.
 async fn hold_streams(
     server: &ServerProcess,
     path: &'static str,
     first: Option<Bytes>,
-    streams: usize,
+    hold: StreamHold,
     calls: usize,
     observe: Duration,
 ) -> StreamsFigures {
     let probe = HealthProbe::start(server.health_uri()).await;
     let address = server.address;
-    let send = wire::h2_connect(address)
-        .await
-        .expect("attacker connection");
+    let mut sends = Vec::new();
+    for _ in 0..hold.connections.max(1) {
+        sends.push(
+            wire::h2_connect(address)
+                .await
+                .expect("attacker connection"),
+        );
+    }
+    let padding = "p".repeat(hold.header_bytes);
     let ends: Arc<Mutex<Vec<(Duration, Answer)>>> = Arc::default();
     let opened_at = Instant::now();
     let mut held = Vec::new();
-    for _ in 0..streams {
-        let mut ready = match send.clone().ready().await {
-            Ok(ready) => ready,
-            Err(_) => break,
+    for i in 0..hold.streams {
+        let send = sends[i % sends.len()].clone();
+        // A connection at its stream limit makes the attacker wait: stop.
+        let Ok(Ok(mut ready)) = tokio::time::timeout(Duration::from_secs(1), send.ready()).await
+        else {
+            break;
         };
-        let request = wire::grpc_request(address, path, &[]);
+        let extra: Vec<(&str, &str)> = if padding.is_empty() {
+            Vec::new()
+        } else {
+            vec![("x-padding", padding.as_str())]
+        };
+        let request = wire::grpc_request(address, path, &extra);
         let Ok((response, mut body)) = ready.send_request(request, false) else {
             break;
         };
@@ -204,28 +240,28 @@ async fn hold_streams(
 /// Finding 1a: idle server-reflection streams (opened, nothing sent).
 pub async fn idle_reflection_streams(
     server: &ServerProcess,
-    streams: usize,
+    hold: StreamHold,
     calls: usize,
     observe: Duration,
 ) -> StreamsFigures {
-    hold_streams(server, wire::REFLECTION_PATH, None, streams, calls, observe).await
+    hold_streams(server, wire::REFLECTION_PATH, None, hold, calls, observe).await
 }
 
 /// Finding 1b: unary calls that send their headers and never their message.
 pub async fn headers_only_streams(
     server: &ServerProcess,
-    streams: usize,
+    hold: StreamHold,
     calls: usize,
     observe: Duration,
 ) -> StreamsFigures {
-    hold_streams(server, wire::SATURATION_PATH, None, streams, calls, observe).await
+    hold_streams(server, wire::SATURATION_PATH, None, hold, calls, observe).await
 }
 
 /// Finding 1b, a variant: a unary call's message sent but the request never
 /// ended.
 pub async fn unended_requests(
     server: &ServerProcess,
-    streams: usize,
+    hold: StreamHold,
     calls: usize,
     observe: Duration,
 ) -> StreamsFigures {
@@ -234,7 +270,7 @@ pub async fn unended_requests(
         server,
         wire::SATURATION_PATH,
         Some(message),
-        streams,
+        hold,
         calls,
         observe,
     )
@@ -500,28 +536,70 @@ async fn flood(
     }
 }
 
-/// Finding 4 and 5: `concurrent` batches of `items` blood gases each
-/// (provenance on each item, the heaviest answer) at once over
-/// `connections` connections, `rounds` times.
+/// Pause of a batch task after a refusal before it sends again (a client
+/// backing off a little).
+const BATCH_RETRY_PAUSE: Duration = Duration::from_millis(20);
+
+/// Findings 4 and 5: `concurrent` callers each sending batches of `items`
+/// blood gases (provenance on each item, the heaviest answer) one after
+/// another over `connections` connections for `duration`, pausing briefly
+/// after a refusal.
 pub async fn batch_flood(
     server: &ServerProcess,
     concurrent: usize,
     items: usize,
     connections: usize,
-    rounds: usize,
+    duration: Duration,
 ) -> LoadFigures {
+    let probe = HealthProbe::start(server.health_uri()).await;
+    let address = server.address;
     let message = wire::grpc_frame(&inputs::batch(items));
-    let messages = (0..concurrent)
-        .map(|_| (wire::BATCH_SATURATION_PATH, message.clone(), items as u64))
-        .collect();
-    flood(
-        server,
-        messages,
-        connections,
-        rounds,
-        Duration::from_secs(60),
-    )
-    .await
+    let mut sends = Vec::new();
+    for _ in 0..connections {
+        sends.push(wire::h2_connect(address).await.expect("connection"));
+    }
+    let start = Instant::now();
+    let until = start + duration;
+    let mut set = JoinSet::new();
+    for i in 0..concurrent {
+        let mut send = sends[i % sends.len()].clone();
+        let message = message.clone();
+        set.spawn(async move {
+            let mut answers = Tally::default();
+            let mut calls = 0;
+            while Instant::now() < until {
+                let request = wire::grpc_request(
+                    address,
+                    wire::BATCH_SATURATION_PATH,
+                    &[("grpc-timeout", "60S")],
+                );
+                let answer = wire::exchange(&mut send, request, Some(message.clone()), true).await;
+                calls += 1;
+                answers.add(answer.label());
+                if !answer.is_grpc_ok() {
+                    tokio::time::sleep(BATCH_RETRY_PAUSE).await;
+                }
+            }
+            (calls, answers)
+        });
+    }
+    let mut answers = Tally::default();
+    let mut calls = 0;
+    while let Some(result) = set.join_next().await {
+        let (task_calls, task_answers) = result.expect("batch task");
+        calls += task_calls;
+        for (label, count) in task_answers.0 {
+            *answers.0.entry(label).or_default() += count;
+        }
+    }
+    LoadFigures {
+        calls,
+        items_computed: answers.get("OK") * items as u64,
+        answers,
+        elapsed_ms: ms(start.elapsed()),
+        health: probe.finish().await,
+        memory: server.memory(),
+    }
 }
 
 /// The 10x overload: `calls` at once, most single SaturationFromTension
@@ -633,7 +711,11 @@ fn probe_of(sent: &'static str, answer: &Answer) -> ProtocolProbe {
 
 /// What a protocol probe sends: its description, the method and the headers
 /// that replace the gRPC ones (an empty value removes the header).
-type ProtocolCase = (&'static str, &'static str, &'static [(&'static str, &'static str)]);
+type ProtocolCase = (
+    &'static str,
+    &'static str,
+    &'static [(&'static str, &'static str)],
+);
 
 /// Finding 7 over HTTP/2: content types, methods, two messages on a unary
 /// call. Each probe on its own stream of one connection.

@@ -42,8 +42,8 @@ struct Cli {
 enum Attack {
     /// Idle server-reflection streams on one connection, then honest calls.
     ReflectionStreams {
-        #[arg(long, default_value_t = 64)]
-        streams: usize,
+        #[command(flatten)]
+        hold: HoldArgs,
         #[arg(long, default_value_t = 20)]
         calls: usize,
         #[arg(long, default_value_t = 45.0)]
@@ -51,8 +51,8 @@ enum Attack {
     },
     /// Unary calls that send headers and no message, then honest calls.
     HeadersOnly {
-        #[arg(long, default_value_t = 64)]
-        streams: usize,
+        #[command(flatten)]
+        hold: HoldArgs,
         #[arg(long, default_value_t = 20)]
         calls: usize,
         #[arg(long, default_value_t = 15.0)]
@@ -60,8 +60,8 @@ enum Attack {
     },
     /// Unary calls that send their message and never end the request.
     UnendedRequests {
-        #[arg(long, default_value_t = 64)]
-        streams: usize,
+        #[command(flatten)]
+        hold: HoldArgs,
         #[arg(long, default_value_t = 20)]
         calls: usize,
         #[arg(long, default_value_t = 15.0)]
@@ -95,7 +95,8 @@ enum Attack {
         #[arg(long, default_value_t = 20.0)]
         observe_s: f64,
     },
-    /// Many full batches at once (provenance on each item).
+    /// Many callers sending full batches (provenance on each item), one
+    /// after another, for a while.
     BatchFlood {
         #[arg(long, default_value_t = 64)]
         concurrent: usize,
@@ -103,8 +104,8 @@ enum Attack {
         items: usize,
         #[arg(long, default_value_t = 8)]
         connections: usize,
-        #[arg(long, default_value_t = 2)]
-        rounds: usize,
+        #[arg(long, default_value_t = 20.0)]
+        duration_s: f64,
     },
     /// Ten times the call limit at once.
     Overload {
@@ -124,6 +125,30 @@ enum Attack {
     Protocol,
 }
 
+/// How the attacker's streams are held.
+#[derive(Debug, clap::Args)]
+struct HoldArgs {
+    /// Streams to open.
+    #[arg(long, default_value_t = 64)]
+    streams: usize,
+    /// Connections to spread them over.
+    #[arg(long, default_value_t = 1)]
+    connections: usize,
+    /// Bytes of padding metadata on each stream.
+    #[arg(long, default_value_t = 0)]
+    header_bytes: usize,
+}
+
+impl HoldArgs {
+    fn hold(&self) -> attacks::StreamHold {
+        attacks::StreamHold {
+            streams: self.streams,
+            connections: self.connections,
+            header_bytes: self.header_bytes,
+        }
+    }
+}
+
 /// The origin the protocol attack's server allows.
 const ALLOWED_ORIGIN: &str = "https://dashboard.larchmere.example";
 
@@ -138,28 +163,31 @@ async fn main() {
     let secs = Duration::from_secs_f64;
     let figures = match cli.attack {
         Attack::ReflectionStreams {
-            streams,
+            hold,
             calls,
             observe_s,
         } => {
             let server = ServerProcess::start(&binary, &options);
-            json!(attacks::idle_reflection_streams(&server, streams, calls, secs(observe_s)).await)
+            json!(
+                attacks::idle_reflection_streams(&server, hold.hold(), calls, secs(observe_s))
+                    .await
+            )
         }
         Attack::HeadersOnly {
-            streams,
+            hold,
             calls,
             observe_s,
         } => {
             let server = ServerProcess::start(&binary, &options);
-            json!(attacks::headers_only_streams(&server, streams, calls, secs(observe_s)).await)
+            json!(attacks::headers_only_streams(&server, hold.hold(), calls, secs(observe_s)).await)
         }
         Attack::UnendedRequests {
-            streams,
+            hold,
             calls,
             observe_s,
         } => {
             let server = ServerProcess::start(&binary, &options);
-            json!(attacks::unended_requests(&server, streams, calls, secs(observe_s)).await)
+            json!(attacks::unended_requests(&server, hold.hold(), calls, secs(observe_s)).await)
         }
         Attack::IdleSockets {
             sockets,
@@ -226,10 +254,13 @@ async fn main() {
             concurrent,
             items,
             connections,
-            rounds,
+            duration_s,
         } => {
             let server = ServerProcess::start(&binary, &options);
-            json!(attacks::batch_flood(&server, concurrent, items, connections, rounds).await)
+            json!(
+                attacks::batch_flood(&server, concurrent, items, connections, secs(duration_s))
+                    .await
+            )
         }
         Attack::Overload { calls, connections } => {
             let server = ServerProcess::start(&binary, &options);

@@ -1,12 +1,15 @@
 //! A health prober, as a kubelet or a load balancer would be: one
 //! `grpc.health.v1.Health/Check` after another on its own connection, each
-//! with a deadline, timed.
+//! with a deadline, timed. It runs on a thread and runtime of its own, so
+//! that the attack's own traffic (on the attacker's runtime) does not delay
+//! it; on a shared machine the operating system still may.
 
 use std::{
     sync::{
         atomic::{AtomicBool, Ordering},
         Arc,
     },
+    thread::JoinHandle,
     time::{Duration, Instant},
 };
 
@@ -15,7 +18,6 @@ use oxbind_client::health::{
     health_check_response::ServingStatus, health_client::HealthClient, HealthCheckRequest,
 };
 use serde::Serialize;
-use tokio::task::JoinHandle;
 
 /// Pause between two checks.
 pub const PROBE_INTERVAL: Duration = Duration::from_millis(10);
@@ -44,53 +46,68 @@ pub struct HealthFigures {
 /// A running prober.
 pub struct HealthProbe {
     stop: Arc<AtomicBool>,
-    task: JoinHandle<HealthFigures>,
+    thread: JoinHandle<HealthFigures>,
 }
 
 impl HealthProbe {
-    /// Start probing `uri` (health of the whole server, `""`).
+    /// Start probing `uri` (health of the whole server, `""`); returns once
+    /// the prober is connected.
     pub async fn start(uri: String) -> Self {
-        let channel = oxbind_client::connect(uri)
-            .await
-            .expect("health connection");
         let stop = Arc::new(AtomicBool::new(false));
         let stopping = stop.clone();
-        let task = tokio::spawn(async move {
-            let mut client = HealthClient::new(channel);
-            let mut latency = Histogram::<u64>::new(3).expect("histogram");
-            let mut figures = HealthFigures::default();
-            while !stopping.load(Ordering::Relaxed) {
-                let start = Instant::now();
-                let answer = tokio::time::timeout(
-                    PROBE_DEADLINE,
-                    client.check(HealthCheckRequest::default()),
-                )
-                .await;
-                let elapsed = start.elapsed();
-                let _ = latency.record(elapsed.as_micros() as u64);
-                if elapsed > HEALTH_TARGET {
-                    figures.over_100ms += 1;
-                }
-                match answer {
-                    Ok(Ok(r)) if r.get_ref().status() == ServingStatus::Serving => {
-                        figures.serving += 1
-                    }
-                    _ => figures.failed += 1,
-                }
-                tokio::time::sleep(PROBE_INTERVAL).await;
-            }
-            let ms = |micros: u64| micros as f64 / 1000.0;
-            figures.p50_ms = ms(latency.value_at_quantile(0.50));
-            figures.p99_ms = ms(latency.value_at_quantile(0.99));
-            figures.max_ms = ms(latency.max());
-            figures
+        let (connected_tx, connected_rx) = tokio::sync::oneshot::channel::<()>();
+        let thread = std::thread::spawn(move || {
+            tokio::runtime::Builder::new_current_thread()
+                .enable_all()
+                .build()
+                .expect("prober runtime")
+                .block_on(probe(uri, stopping, connected_tx))
         });
-        Self { stop, task }
+        let _ = connected_rx.await;
+        Self { stop, thread }
     }
 
     /// Stop and report.
     pub async fn finish(self) -> HealthFigures {
         self.stop.store(true, Ordering::Relaxed);
-        self.task.await.expect("prober task")
+        let thread = self.thread;
+        tokio::task::spawn_blocking(move || thread.join().expect("prober thread"))
+            .await
+            .expect("join")
     }
+}
+
+/// Check `uri` until `stopping`; say when connected.
+async fn probe(
+    uri: String,
+    stopping: Arc<AtomicBool>,
+    connected: tokio::sync::oneshot::Sender<()>,
+) -> HealthFigures {
+    let channel = oxbind_client::connect(uri)
+        .await
+        .expect("health connection");
+    let _ = connected.send(());
+    let mut client = HealthClient::new(channel);
+    let mut latency = Histogram::<u64>::new(3).expect("histogram");
+    let mut figures = HealthFigures::default();
+    while !stopping.load(Ordering::Relaxed) {
+        let start = Instant::now();
+        let answer =
+            tokio::time::timeout(PROBE_DEADLINE, client.check(HealthCheckRequest::default())).await;
+        let elapsed = start.elapsed();
+        let _ = latency.record(elapsed.as_micros() as u64);
+        if elapsed > HEALTH_TARGET {
+            figures.over_100ms += 1;
+        }
+        match answer {
+            Ok(Ok(r)) if r.get_ref().status() == ServingStatus::Serving => figures.serving += 1,
+            _ => figures.failed += 1,
+        }
+        tokio::time::sleep(PROBE_INTERVAL).await;
+    }
+    let ms = |micros: u64| micros as f64 / 1000.0;
+    figures.p50_ms = ms(latency.value_at_quantile(0.50));
+    figures.p99_ms = ms(latency.value_at_quantile(0.99));
+    figures.max_ms = ms(latency.max());
+    figures
 }
