@@ -37,8 +37,11 @@ pub const DEFAULT_MAX_ENCODED_MESSAGE_BYTES: usize = 32 * 1024 * 1024;
 pub const DEFAULT_CALL_TIMEOUT: Duration = Duration::from_secs(10);
 
 /// Default largest number of concurrent HTTP/2 streams (calls) on one
-/// connection.
-pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 128;
+/// connection; gRPC clients queue further calls themselves. With
+/// [`DEFAULT_MAX_CONNECTIONS`] it bounds what streams still waiting for their
+/// request can hold (RELIABILITY.md, "Memory bound"), and it keeps one
+/// connection to a quarter of [`DEFAULT_MAX_CONCURRENT_CALLS`].
+pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 16;
 
 /// Default largest number of calls in progress across the whole server; calls
 /// past it are refused at once with RESOURCE_EXHAUSTED. Health checks are not
@@ -46,8 +49,11 @@ pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 128;
 pub const DEFAULT_MAX_CONCURRENT_CALLS: usize = 64;
 
 /// Default largest number of open client connections on the main listener;
-/// further connections wait in the kernel's accept queue.
-pub const DEFAULT_MAX_CONNECTIONS: usize = 1024;
+/// further connections wait in the kernel's accept queue. A replica serves a
+/// few integration engines, each with a few connections; more callers call
+/// for more replicas. With [`DEFAULT_MAX_CONCURRENT_STREAMS`] it bounds the
+/// streams the server holds (RELIABILITY.md, "Memory bound").
+pub const DEFAULT_MAX_CONNECTIONS: usize = 256;
 
 /// Default interval between HTTP/2 keepalive pings on an idle connection.
 pub const DEFAULT_KEEPALIVE_INTERVAL: Duration = Duration::from_secs(30);

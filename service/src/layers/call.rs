@@ -43,6 +43,7 @@ use tracing::{field::Empty, Instrument, Span};
 use tracing_opentelemetry::OpenTelemetrySpanExt;
 
 use super::{
+    connections::CallClock,
     protocol::{call_kind, CallKind},
     statuses,
 };
@@ -189,6 +190,9 @@ where
         let clone = self.inner.clone();
         let mut inner = std::mem::replace(&mut self.inner, clone);
         let deadline = tokio::time::Instant::from_std(start + timeout.saturating_sub(TIMER_MARGIN));
+        if let (false, Some(clock)) = (streaming, request.extensions().get::<CallClock>()) {
+            clock.must_end_by(deadline);
+        }
         Box::pin(async move {
             let outcome =
                 tokio::time::timeout_at(deadline, inner.call(request).instrument(span)).await;

@@ -17,6 +17,11 @@
 //!   [`ListenerSettings::max_connection_age_grace`] for the calls in
 //!   progress, then the connection is closed. Clients reconnect, so
 //!   long-lived gRPC connections spread over replicas as they come and go.
+//! - **Stuck answers**: a call still open [`STUCK_CALL_MARGIN`] after the
+//!   time it must end by ([`CallClock`], set by the layers that know it: the
+//!   call's deadline, or a stream's idle deadline) has an answer that is not
+//!   moving, because its client stopped reading and HTTP/2 flow control
+//!   holds it; nothing else would end it, so its connection is closed.
 //! - **The drain**: when the server stops, every connection gets a GOAWAY;
 //!   the caller bounds the wait by dropping the future [`serve`] returns.
 //!
@@ -76,6 +81,14 @@ const HTTP2_PREFACE_BYTES: u64 = 24;
 /// over HTTP/2 protocol suggests for metadata). Bounds what a stream that is
 /// still waiting for its message can hold.
 pub const MAX_HEADER_LIST_BYTES: u32 = 8 * 1024;
+
+/// How long past the time it must end by a call may still be open before its
+/// connection is closed as stuck.
+pub const STUCK_CALL_MARGIN: Duration = Duration::from_secs(1);
+
+/// How often a connection with calls open checks them for one that is
+/// stuck.
+const STUCK_CALL_CHECK: Duration = Duration::from_secs(1);
 
 /// Spread of the maximum connection age: each connection's age is drawn
 /// from the setting plus or minus this fraction of it, as gRPC's own servers
@@ -173,6 +186,44 @@ pub struct ConnectionState {
     last_call_end_ms: AtomicU64,
     /// Call slots this connection holds (kept by the admission layer).
     pub(crate) slots_held: AtomicUsize,
+    /// The clocks of the calls in progress, by call number.
+    clocks: std::sync::Mutex<Vec<(u64, CallClock)>>,
+}
+
+/// The time a call must end by, in its request's extensions for the layers
+/// that know it (the call layer sets the call's deadline; the streaming
+/// layer moves a stream's idle deadline on with each message). Until one is
+/// set, the call has none.
+#[derive(Debug, Clone)]
+pub struct CallClock(Arc<ClockInner>);
+
+#[derive(Debug)]
+struct ClockInner {
+    base: Instant,
+    must_end_ms: AtomicU64,
+}
+
+impl CallClock {
+    fn new(base: Instant) -> Self {
+        Self(Arc::new(ClockInner {
+            base,
+            must_end_ms: AtomicU64::new(u64::MAX),
+        }))
+    }
+
+    /// The call must end by `at`.
+    pub fn must_end_by(&self, at: Instant) {
+        let ms = at.saturating_duration_since(self.0.base).as_millis() as u64;
+        self.0.must_end_ms.store(ms, Ordering::Relaxed);
+    }
+
+    /// Whether the call is still open [`STUCK_CALL_MARGIN`] past its time.
+    fn overdue(&self, now: Instant) -> bool {
+        let due = self.0.must_end_ms.load(Ordering::Relaxed);
+        due != u64::MAX
+            && now.saturating_duration_since(self.0.base)
+                > Duration::from_millis(due) + STUCK_CALL_MARGIN
+    }
 }
 
 impl ConnectionState {
@@ -184,6 +235,7 @@ impl ConnectionState {
             calls_open: AtomicUsize::new(0),
             last_call_end_ms: AtomicU64::new(0),
             slots_held: AtomicUsize::new(0),
+            clocks: std::sync::Mutex::new(Vec::new()),
         }
     }
 
@@ -209,15 +261,35 @@ impl ConnectionState {
         Some(self.opened + Duration::from_millis(ms))
     }
 
-    fn call_started(&self) {
-        self.requests.fetch_add(1, Ordering::Relaxed);
+    fn call_started(&self) -> (u64, CallClock) {
+        let number = self.requests.fetch_add(1, Ordering::Relaxed);
         self.calls_open.fetch_add(1, Ordering::AcqRel);
+        let clock = CallClock::new(self.opened);
+        self.clocks
+            .lock()
+            .expect("clock list")
+            .push((number, clock.clone()));
+        (number, clock)
     }
 
-    fn call_ended(&self) {
+    fn call_ended(&self, number: u64) {
         let ms = self.opened.elapsed().as_millis() as u64;
         self.last_call_end_ms.fetch_max(ms, Ordering::AcqRel);
         self.calls_open.fetch_sub(1, Ordering::AcqRel);
+        let mut clocks = self.clocks.lock().expect("clock list");
+        if let Some(index) = clocks.iter().position(|(n, _)| *n == number) {
+            clocks.swap_remove(index);
+        }
+    }
+
+    /// Whether a call in progress is stuck past its time.
+    fn has_stuck_call(&self) -> bool {
+        let now = Instant::now();
+        self.clocks
+            .lock()
+            .expect("clock list")
+            .iter()
+            .any(|(_, clock)| clock.overdue(now))
     }
 }
 
@@ -309,6 +381,7 @@ enum CloseReason {
     TlsHandshakeTimeout,
     TlsHandshakeFailed,
     PrefaceTimeout,
+    StuckCall,
     Idle,
     MaxAge,
     GraceOver,
@@ -320,6 +393,7 @@ impl CloseReason {
             CloseReason::TlsHandshakeTimeout => "tls_handshake_timeout",
             CloseReason::TlsHandshakeFailed => "tls_handshake_failed",
             CloseReason::PrefaceTimeout => "preface_timeout",
+            CloseReason::StuckCall => "stuck_call",
             CloseReason::Idle => "idle",
             CloseReason::MaxAge => "max_age",
             CloseReason::GraceOver => "grace_over",
@@ -391,6 +465,8 @@ async fn serve_connection<S>(
     tokio::pin!(idle);
     let age = sleep(jittered(settings.max_connection_age));
     tokio::pin!(age);
+    let mut stuck_check = tokio::time::interval(STUCK_CALL_CHECK);
+    stuck_check.set_missed_tick_behavior(tokio::time::MissedTickBehavior::Delay);
     // Set once a GOAWAY has been sent: when the connection is closed anyway.
     let mut close_at: Option<Pin<Box<Sleep>>> = None;
     let mut goaway_sent = false;
@@ -429,6 +505,12 @@ async fn serve_connection<S>(
                 connection.as_mut().graceful_shutdown();
                 goaway_sent = true;
                 close_at = Some(Box::pin(sleep(settings.max_connection_age_grace)));
+            }
+            _ = stuck_check.tick() => {
+                if state.has_stuck_call() {
+                    record_close(&settings, peer, CloseReason::StuckCall);
+                    break;
+                }
             }
             () = async { close_at.as_mut().expect("guarded").await }, if close_at.is_some() => {
                 record_close(&settings, peer, CloseReason::GraceOver);
@@ -479,9 +561,9 @@ where
     fn call(&mut self, request: Request<hyper::body::Incoming>) -> Self::Future {
         let guard = CallGuard::new(self.state.clone());
         let mut request = request.map(Body::new);
-        request
-            .extensions_mut()
-            .insert(ConnectionHandle(self.state.clone()));
+        let extensions = request.extensions_mut();
+        extensions.insert(ConnectionHandle(self.state.clone()));
+        extensions.insert(guard.clock.clone());
         let clone = self.inner.clone();
         let mut inner = std::mem::replace(&mut self.inner, clone);
         Box::pin(async move {
@@ -492,18 +574,26 @@ where
 }
 
 /// Counts one call in progress on a connection until dropped.
-struct CallGuard(Arc<ConnectionState>);
+struct CallGuard {
+    state: Arc<ConnectionState>,
+    number: u64,
+    clock: CallClock,
+}
 
 impl CallGuard {
     fn new(state: Arc<ConnectionState>) -> Self {
-        state.call_started();
-        Self(state)
+        let (number, clock) = state.call_started();
+        Self {
+            state,
+            number,
+            clock,
+        }
     }
 }
 
 impl Drop for CallGuard {
     fn drop(&mut self) {
-        self.0.call_ended();
+        self.state.call_ended(self.number);
     }
 }
 
@@ -586,5 +676,22 @@ mod tests {
         assert!(state.preface_received(), "a request counts as the preface");
         drop(guard);
         assert!(state.idle_since().is_some());
+    }
+
+    #[tokio::test]
+    async fn a_call_open_past_its_time_is_stuck() {
+        let state = ConnectionState::detached();
+        let guard = CallGuard::new(state.clone());
+        assert!(!state.has_stuck_call(), "no time set: never stuck");
+        guard
+            .clock
+            .must_end_by(Instant::now() - STUCK_CALL_MARGIN - Duration::from_millis(10));
+        assert!(state.has_stuck_call());
+        guard
+            .clock
+            .must_end_by(Instant::now() + Duration::from_secs(5));
+        assert!(!state.has_stuck_call());
+        drop(guard);
+        assert!(!state.has_stuck_call());
     }
 }

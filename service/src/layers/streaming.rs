@@ -37,6 +37,7 @@ use tonic::{body::Body, codegen::Bytes, Status};
 use tower::{Layer, Service};
 
 use super::{
+    connections::CallClock,
     protocol::{call_kind, CallKind},
     statuses,
 };
@@ -106,7 +107,8 @@ where
             let refusal = statuses::streaming_limit(settings.max_streams).into_http();
             return Box::pin(std::future::ready(Ok(refusal)));
         };
-        let activity = Arc::new(Activity::new());
+        let clock = request.extensions().get::<CallClock>().cloned();
+        let activity = Arc::new(Activity::new(clock, settings.idle_timeout));
         let ended = CancellationToken::new();
         let request = request.map(|body| {
             Body::new(RequestSide {
@@ -135,24 +137,38 @@ where
     }
 }
 
-/// When a stream last passed a message, in ms since it began.
+/// When a stream last passed a message, in ms since it began; each message
+/// also moves the call's clock (its connection closes if the stream is
+/// stuck past its idle deadline).
 #[derive(Debug)]
 struct Activity {
     start: Instant,
     last_ms: AtomicU64,
+    clock: Option<CallClock>,
+    idle_timeout: Duration,
 }
 
 impl Activity {
-    fn new() -> Self {
+    fn new(clock: Option<CallClock>, idle_timeout: Duration) -> Self {
+        let start = Instant::now();
+        if let Some(clock) = &clock {
+            clock.must_end_by(start + idle_timeout);
+        }
         Self {
-            start: Instant::now(),
+            start,
             last_ms: AtomicU64::new(0),
+            clock,
+            idle_timeout,
         }
     }
 
     fn touch(&self) {
-        let ms = self.start.elapsed().as_millis() as u64;
+        let now = Instant::now();
+        let ms = now.saturating_duration_since(self.start).as_millis() as u64;
         self.last_ms.fetch_max(ms, Ordering::Relaxed);
+        if let Some(clock) = &self.clock {
+            clock.must_end_by(now + self.idle_timeout);
+        }
     }
 
     fn last(&self) -> Instant {

@@ -77,8 +77,13 @@ async fn honest_calls(address: SocketAddr, calls: usize, deadline: Duration) -> 
         }
     };
     let message = wire::grpc_frame(&inputs::blood_gas(7));
+    // One call first, as on a connection already in use: the server's
+    // SETTINGS (its stream limit) are known before the burst.
+    let request = wire::grpc_request(address, wire::SATURATION_PATH, &[]);
+    let first = wire::exchange(&mut send.clone(), request, Some(message.clone()), true).await;
+    tally.add(first.label());
     let mut set = JoinSet::new();
-    for _ in 0..calls {
+    for _ in 1..calls {
         let mut send = send.clone();
         let message = message.clone();
         set.spawn(async move {
@@ -275,6 +280,111 @@ pub async fn unended_requests(
         observe,
     )
     .await
+}
+
+/// Figures of the attack by clients that never read their answers.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct StalledFigures {
+    /// Calls the stalled clients sent (single calls and batches), by how
+    /// the server first answered them (`STALLED`: headers, then no data).
+    pub stalled_calls: Tally,
+    /// Honest calls made meanwhile, by status.
+    pub honest_calls: Tally,
+    /// Honest batches of 1,000 items made meanwhile, by status.
+    pub honest_batches: Tally,
+    /// Stalled connections the server closed within the observation time.
+    pub connections_closed: usize,
+    /// When the last of those closed, ms after the calls were sent.
+    pub last_close_ms: Option<f64>,
+    /// Honest calls made after the stalled connections were closed.
+    pub honest_calls_after: Tally,
+}
+
+/// Clients that send calls and never read a byte of the answers (HTTP/2
+/// stream window 0): `singles` single calls on one connection and `batches`
+/// full batches on another. Honest callers call meanwhile; the stalled
+/// connections are watched for `observe`.
+pub async fn stalled_readers(
+    server: &ServerProcess,
+    singles: usize,
+    batches: usize,
+    observe: Duration,
+) -> StalledFigures {
+    let address = server.address;
+    let started = Instant::now();
+    let mut figures = StalledFigures::default();
+    let mut watched = Vec::new();
+    let stalled: Arc<Mutex<Tally>> = Arc::default();
+    for (count, message, path) in [
+        (
+            singles,
+            wire::grpc_frame(&inputs::blood_gas(1)),
+            wire::SATURATION_PATH,
+        ),
+        (
+            batches,
+            wire::grpc_frame(&inputs::batch(10_000)),
+            wire::BATCH_SATURATION_PATH,
+        ),
+    ] {
+        let (send, done) = wire::h2_connect_with_window(address, 0)
+            .await
+            .expect("stalled connection");
+        for _ in 0..count {
+            let Ok(Ok(mut ready)) =
+                tokio::time::timeout(Duration::from_secs(1), send.clone().ready()).await
+            else {
+                break;
+            };
+            let request = wire::grpc_request(address, path, &[]);
+            let Ok((response, mut body)) = ready.send_request(request, false) else {
+                break;
+            };
+            let _ = body.send_data(message.clone(), true);
+            let stalled = stalled.clone();
+            tokio::spawn(async move {
+                // Look at the headers only; never release any window.
+                let label = match response.await {
+                    Ok(head) => match head.headers().get("grpc-status") {
+                        Some(code) => code
+                            .to_str()
+                            .ok()
+                            .and_then(|c| c.parse().ok())
+                            .map(|c| oxbind_client::code_name(tonic::Code::from_i32(c)).to_owned())
+                            .unwrap_or_else(|| "HTTP".to_owned()),
+                        None => "STALLED".to_owned(),
+                    },
+                    Err(_) => "RESET".to_owned(),
+                };
+                stalled.lock().unwrap().add(label);
+                let _keep = body;
+                std::future::pending::<()>().await;
+            });
+        }
+        watched.push((send, done));
+    }
+    tokio::time::sleep(Duration::from_millis(500)).await;
+    figures.honest_calls = honest_calls(address, 20, Duration::from_secs(5)).await;
+    let honest_batch = wire::grpc_frame(&inputs::batch(1_000));
+    let mut send = wire::h2_connect(address).await.expect("honest connection");
+    for _ in 0..4 {
+        let request = wire::grpc_request(address, wire::BATCH_SATURATION_PATH, &[]);
+        let answer = wire::exchange(&mut send, request, Some(honest_batch.clone()), true).await;
+        figures.honest_batches.add(answer.label());
+    }
+    let until = started + observe;
+    let mut closes = Vec::new();
+    for (_, done) in &mut watched {
+        let left = until.saturating_duration_since(Instant::now());
+        if tokio::time::timeout(left, done).await.is_ok() {
+            closes.push(started.elapsed());
+        }
+    }
+    figures.connections_closed = closes.len();
+    figures.last_close_ms = closes.iter().max().map(|d| ms(*d));
+    figures.stalled_calls = stalled.lock().unwrap().clone();
+    figures.honest_calls_after = honest_calls(address, 20, Duration::from_secs(5)).await;
+    figures
 }
 
 /// How an honest client is made for the socket attacks.
@@ -617,6 +727,162 @@ pub async fn overload(server: &ServerProcess, calls: usize, connections: usize) 
         })
         .collect();
     flood(server, messages, connections, 1, Duration::from_secs(20)).await
+}
+
+/// The heaviest mix the limits allow, all at once.
+#[derive(Debug, Clone, Copy)]
+pub struct WorstMix {
+    /// Connections that each keep `streams_per_connection` unary streams
+    /// waiting for their request (headers only), reopening each as the
+    /// server ends it.
+    pub pending_connections: usize,
+    /// Streams each of those keeps open (the server's per-connection
+    /// stream limit).
+    pub streams_per_connection: usize,
+    /// Padding metadata on each of those streams, bytes.
+    pub header_bytes: usize,
+    /// Streaming calls (reflection) that ask for large answers and never
+    /// read them.
+    pub streaming_calls: usize,
+    /// Callers sending full batches one after another.
+    pub batch_callers: usize,
+    /// Connections the batch callers share.
+    pub batch_connections: usize,
+    /// Items per batch.
+    pub items: usize,
+    /// How long the mix runs.
+    pub duration: Duration,
+}
+
+/// Figures of the heaviest mix.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct WorstMixFigures {
+    /// Server memory once started, before the mix.
+    pub memory_at_start: Memory,
+    /// Waiting streams opened in all (each reopened as it was ended).
+    pub pending_streams_opened: u64,
+    /// How the waiting streams ended, by status.
+    pub pending_streams_ended: Tally,
+    /// Streaming calls opened.
+    pub streaming_opened: usize,
+    /// The batch callers' answers and the health prober's figures.
+    pub batches: LoadFigures,
+}
+
+/// Everything at once: every connection but a few holding waiting streams
+/// with large headers, streaming calls that never read, and batch callers
+/// filling the work and request-byte limits; `peak_rss_mib` in the batch
+/// figures is the server's peak over the whole mix.
+pub async fn worst_mix(server: &ServerProcess, mix: WorstMix) -> WorstMixFigures {
+    let memory_at_start = server.memory();
+    let address = server.address;
+    let until = Instant::now() + mix.duration;
+    let opened = Arc::new(std::sync::atomic::AtomicU64::new(0));
+    let padding = Arc::new("p".repeat(mix.header_bytes));
+    let ended: Arc<Mutex<Tally>> = Arc::default();
+    let mut holders = JoinSet::new();
+    for _ in 0..mix.pending_connections {
+        let Ok(send) = wire::h2_connect(address).await else {
+            break;
+        };
+        let opened = opened.clone();
+        let padding = padding.clone();
+        let ended = ended.clone();
+        // h2 queues streams past the server's limit on the client side: keep
+        // exactly the limit open, reopening each as the server ends it.
+        let open = Arc::new(tokio::sync::Semaphore::new(mix.streams_per_connection));
+        holders.spawn(async move {
+            while Instant::now() < until {
+                let Ok(Ok(slot)) =
+                    tokio::time::timeout_at(until.into(), open.clone().acquire_owned()).await
+                else {
+                    break;
+                };
+                let Ok(Ok(mut ready)) =
+                    tokio::time::timeout_at(until.into(), send.clone().ready()).await
+                else {
+                    break;
+                };
+                let extra = [("x-padding", padding.as_str())];
+                let request = wire::grpc_request(address, wire::SATURATION_PATH, &extra);
+                let Ok((response, body)) = ready.send_request(request, false) else {
+                    break;
+                };
+                opened.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                let ended = ended.clone();
+                tokio::spawn(async move {
+                    let answer = wire::read_answer(response).await;
+                    ended.lock().unwrap().add(answer.label());
+                    drop(body);
+                    drop(slot);
+                });
+            }
+        });
+    }
+    let streaming_opened = hold_unread_reflection(address, mix.streaming_calls, until).await;
+    let (batches, ()) = tokio::join!(
+        batch_flood(
+            server,
+            mix.batch_callers,
+            mix.items,
+            mix.batch_connections,
+            mix.duration,
+        ),
+        tokio::time::sleep_until(until.into()),
+    );
+    holders.abort_all();
+    let pending_streams_ended = ended.lock().unwrap().clone();
+    WorstMixFigures {
+        memory_at_start,
+        pending_streams_opened: opened.load(std::sync::atomic::Ordering::Relaxed),
+        pending_streams_ended,
+        streaming_opened,
+        batches,
+    }
+}
+
+/// Open `streams` reflection streams on one connection, each asking for the
+/// whole contract again and again and never reading an answer, until
+/// `until`. Returns how many the server let open.
+async fn hold_unread_reflection(address: SocketAddr, streams: usize, until: Instant) -> usize {
+    use tonic_reflection::pb::v1::{
+        server_reflection_request::MessageRequest, ServerReflectionRequest,
+    };
+    let Ok(send) = wire::h2_connect(address).await else {
+        return 0;
+    };
+    let ask = wire::grpc_frame(&ServerReflectionRequest {
+        host: String::new(),
+        message_request: Some(MessageRequest::FileContainingSymbol(
+            "oxbind.v1.DissociationService".to_owned(),
+        )),
+    });
+    let mut opened = 0;
+    for _ in 0..streams {
+        let Ok(Ok(mut ready)) =
+            tokio::time::timeout(Duration::from_secs(1), send.clone().ready()).await
+        else {
+            break;
+        };
+        let request = wire::grpc_request(address, wire::REFLECTION_PATH, &[]);
+        let Ok((response, mut body)) = ready.send_request(request, false) else {
+            break;
+        };
+        opened += 1;
+        let ask = ask.clone();
+        tokio::spawn(async move {
+            // Never read the response: keep it, unpolled, until the end.
+            let _response = response;
+            while Instant::now() < until {
+                body.reserve_capacity(ask.len());
+                if body.send_data(ask.clone(), false).is_err() {
+                    break;
+                }
+                tokio::time::sleep(Duration::from_millis(5)).await;
+            }
+        });
+    }
+    opened
 }
 
 /// Figures of SIGTERM with a health Watch stream open.

@@ -107,6 +107,35 @@ enum Attack {
         #[arg(long, default_value_t = 20.0)]
         duration_s: f64,
     },
+    /// The heaviest mix the limits allow, all at once (defaults: the
+    /// server's default limits).
+    WorstMix {
+        #[arg(long, default_value_t = 246)]
+        pending_connections: usize,
+        #[arg(long, default_value_t = 16)]
+        streams_per_connection: usize,
+        #[arg(long, default_value_t = 7_600)]
+        header_bytes: usize,
+        #[arg(long, default_value_t = 8)]
+        streaming_calls: usize,
+        #[arg(long, default_value_t = 64)]
+        batch_callers: usize,
+        #[arg(long, default_value_t = 8)]
+        batch_connections: usize,
+        #[arg(long, default_value_t = 10_000)]
+        items: usize,
+        #[arg(long, default_value_t = 20.0)]
+        duration_s: f64,
+    },
+    /// Clients that send calls and never read the answers.
+    StalledReaders {
+        #[arg(long, default_value_t = 16)]
+        singles: usize,
+        #[arg(long, default_value_t = 4)]
+        batches: usize,
+        #[arg(long, default_value_t = 20.0)]
+        observe_s: f64,
+    },
     /// Ten times the call limit at once.
     Overload {
         #[arg(long, default_value_t = 640)]
@@ -261,6 +290,37 @@ async fn main() {
                 attacks::batch_flood(&server, concurrent, items, connections, secs(duration_s))
                     .await
             )
+        }
+        Attack::WorstMix {
+            pending_connections,
+            streams_per_connection,
+            header_bytes,
+            streaming_calls,
+            batch_callers,
+            batch_connections,
+            items,
+            duration_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            let mix = attacks::WorstMix {
+                pending_connections,
+                streams_per_connection,
+                header_bytes,
+                streaming_calls,
+                batch_callers,
+                batch_connections,
+                items,
+                duration: secs(duration_s),
+            };
+            json!(attacks::worst_mix(&server, mix).await)
+        }
+        Attack::StalledReaders {
+            singles,
+            batches,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(attacks::stalled_readers(&server, singles, batches, secs(observe_s)).await)
         }
         Attack::Overload { calls, connections } => {
             let server = ServerProcess::start(&binary, &options);

@@ -48,10 +48,19 @@ pub async fn h2_connect(address: SocketAddr) -> std::io::Result<SendRequest<Byte
 pub async fn h2_connect_watched(
     address: SocketAddr,
 ) -> std::io::Result<(SendRequest<Bytes>, tokio::task::JoinHandle<()>)> {
+    h2_connect_with_window(address, 8 * 1024 * 1024).await
+}
+
+/// Like [`h2_connect_watched`], offering the server a stream window of
+/// `window` bytes (0: a client that never lets an answer's data through).
+pub async fn h2_connect_with_window(
+    address: SocketAddr,
+    window: u32,
+) -> std::io::Result<(SendRequest<Bytes>, tokio::task::JoinHandle<()>)> {
     let tcp = TcpStream::connect(address).await?;
     let _ = tcp.set_nodelay(true);
     let (send, connection) = h2::client::Builder::new()
-        .initial_window_size(8 * 1024 * 1024)
+        .initial_window_size(window)
         .initial_connection_window_size(64 * 1024 * 1024)
         .handshake(tcp)
         .await
