@@ -302,12 +302,13 @@ pub struct StalledFigures {
 
 /// Clients that send calls and never read a byte of the answers (HTTP/2
 /// stream window 0): `singles` single calls on one connection and `batches`
-/// full batches on another. Honest callers call meanwhile; the stalled
-/// connections are watched for `observe`.
+/// batches of `items` on another. Honest callers call meanwhile; the
+/// stalled connections are watched for `observe`.
 pub async fn stalled_readers(
     server: &ServerProcess,
     singles: usize,
     batches: usize,
+    items: usize,
     observe: Duration,
 ) -> StalledFigures {
     let address = server.address;
@@ -323,7 +324,7 @@ pub async fn stalled_readers(
         ),
         (
             batches,
-            wire::grpc_frame(&inputs::batch(10_000)),
+            wire::grpc_frame(&inputs::batch(items)),
             wire::BATCH_SATURATION_PATH,
         ),
     ] {
@@ -387,6 +388,93 @@ pub async fn stalled_readers(
     figures
 }
 
+/// How calls spread over replicas.
+#[derive(Debug, Clone, Default, Serialize)]
+pub struct SpreadFigures {
+    /// Calls made in all (all must be OK).
+    pub calls: usize,
+    /// Calls that were not OK.
+    pub failed: usize,
+    /// Calls each replica logged, by its address.
+    pub per_replica: BTreeMap<String, u64>,
+    /// The largest departure of a replica's share from an even share, in
+    /// percent of the even share.
+    pub max_departure_percent: f64,
+}
+
+/// `calls` SaturationFromTension calls, `in_flight` at once, through one
+/// balancing client that resolves a made-up name to every replica's
+/// address (as a headless Service's DNS record would); the replicas' access
+/// logs say who served what.
+pub async fn spread(replicas: &[ServerProcess], calls: usize, in_flight: usize) -> SpreadFigures {
+    let addresses: Vec<SocketAddr> = replicas.iter().map(|r| r.address).collect();
+    let port = addresses[0].port();
+    let resolved = addresses.clone();
+    let client = oxbind_client::OxbindClient::builder(format!(
+        "http://replicas.larchmere-valley.test:{port}"
+    ))
+    .balance_with_resolver(move |_host, _port| {
+        let resolved = resolved.clone();
+        async move { Ok(resolved) }
+    })
+    .connect()
+    .await
+    .expect("balanced client");
+    let before: Vec<usize> = replicas.iter().map(|r| r.call_lines().len()).collect();
+    let next = Arc::new(std::sync::atomic::AtomicUsize::new(0));
+    let failed = Arc::new(std::sync::atomic::AtomicUsize::new(0));
+    let mut set = JoinSet::new();
+    for _ in 0..in_flight {
+        let client = client.clone();
+        let next = next.clone();
+        let failed = failed.clone();
+        set.spawn(async move {
+            while next.fetch_add(1, std::sync::atomic::Ordering::Relaxed) < calls {
+                if client
+                    .saturation_from_tension(inputs::blood_gas(3))
+                    .await
+                    .is_err()
+                {
+                    failed.fetch_add(1, std::sync::atomic::Ordering::Relaxed);
+                }
+            }
+        });
+    }
+    while set.join_next().await.is_some() {}
+    // The access lines reach the logs a moment after the answers.
+    let counted = |replica: &ServerProcess, skip: usize| {
+        replica
+            .call_lines()
+            .iter()
+            .skip(skip)
+            .filter(|l| l["method"] == "oxbind.v1.DissociationService/SaturationFromTension")
+            .count() as u64
+    };
+    let deadline = Instant::now() + Duration::from_secs(10);
+    let per_replica = loop {
+        let per_replica: BTreeMap<String, u64> = replicas
+            .iter()
+            .zip(&before)
+            .map(|(r, skip)| (r.address.to_string(), counted(r, *skip)))
+            .collect();
+        if per_replica.values().sum::<u64>() >= calls as u64 || Instant::now() > deadline {
+            break per_replica;
+        }
+        tokio::time::sleep(Duration::from_millis(50)).await;
+    };
+    let even = calls as f64 / replicas.len() as f64;
+    let max_departure_percent = per_replica
+        .values()
+        .map(|&n| ((n as f64 - even).abs() / even * 1000.0).round() / 10.0)
+        .fold(0.0, f64::max);
+    SpreadFigures {
+        calls,
+        failed: failed.load(std::sync::atomic::Ordering::Relaxed),
+        per_replica,
+        max_departure_percent,
+    }
+}
+
 /// How an honest client is made for the socket attacks.
 #[derive(Clone)]
 pub enum HonestClient {
@@ -406,6 +494,11 @@ pub enum HonestClient {
 impl HonestClient {
     /// One ListModels call on a fresh connection.
     async fn call(&self) -> Result<(), String> {
+        self.connected().await.map(|_| ())
+    }
+
+    /// A fresh connection that has made one ListModels call.
+    async fn connected(&self) -> Result<oxbind_client::OxbindClient, String> {
         let builder = match self {
             HonestClient::Plain(uri) => oxbind_client::OxbindClient::builder(uri.clone()),
             HonestClient::MutualTls {
@@ -427,8 +520,8 @@ impl HonestClient {
         client
             .list_models(ListModelsRequest::default())
             .await
-            .map(|_| ())
-            .map_err(|e| e.to_string())
+            .map_err(|e| e.to_string())?;
+        Ok(client)
     }
 }
 
@@ -530,6 +623,8 @@ pub struct IdleConnectionsFigures {
     pub closed_by_server: usize,
     /// When the last of those closed, ms after opening.
     pub last_close_ms: Option<f64>,
+    /// The server's memory once they were all open.
+    pub memory_with_all_open: Memory,
 }
 
 /// Finding 2, second part: HTTP/2 connections that complete the handshake,
@@ -547,6 +642,8 @@ pub async fn idle_connections(
         }
     }
     let opened = watched.len();
+    tokio::time::sleep(Duration::from_millis(300)).await;
+    let memory_with_all_open = server.memory();
     let closes: Arc<Mutex<Vec<Duration>>> = Arc::default();
     let mut waiters = Vec::new();
     let mut senders = Vec::new();
@@ -571,7 +668,26 @@ pub async fn idle_connections(
         connections: opened,
         closed_by_server: closes.len(),
         last_close_ms: closes.iter().max().map(|d| ms(*d)),
+        memory_with_all_open,
     }
+}
+
+/// Memory of `connections` idle mutual-TLS connections (each a client that
+/// connected and made one call), once all are open.
+pub async fn idle_tls_connections(
+    server: &ServerProcess,
+    honest: &HonestClient,
+    connections: usize,
+) -> (usize, Memory) {
+    let mut held = Vec::new();
+    for _ in 0..connections {
+        match honest.connected().await {
+            Ok(client) => held.push(client),
+            Err(_) => break,
+        }
+    }
+    tokio::time::sleep(Duration::from_millis(300)).await;
+    (held.len(), server.memory())
 }
 
 /// Figures of a flood of calls.
@@ -848,7 +964,8 @@ async fn hold_unread_reflection(address: SocketAddr, streams: usize, until: Inst
     use tonic_reflection::pb::v1::{
         server_reflection_request::MessageRequest, ServerReflectionRequest,
     };
-    let Ok(send) = wire::h2_connect(address).await else {
+    // A stream window of 0: the server can send no answer's data at all.
+    let Ok((send, _done)) = wire::h2_connect_with_window(address, 0).await else {
         return 0;
     };
     let ask = wire::grpc_frame(&ServerReflectionRequest {

@@ -8,6 +8,7 @@
 //!   well-behaved client sends.
 //! - [`probe`]: a health prober timing every check.
 //! - [`attacks`]: the attacks, each returning its figures.
+//! - [`bound`]: the documented bound on the server's resident memory.
 //!
 //! The tests in `tests/abuse.rs` run every attack with small, fast settings
 //! and assert the outcome; the `oxbind-abuse` command runs one attack with
@@ -15,6 +16,7 @@
 //! which is how RELIABILITY.md's before and after figures were taken.
 
 pub mod attacks;
+pub mod bound;
 pub mod inputs;
 pub mod probe;
 pub mod server;

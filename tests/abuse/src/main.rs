@@ -15,7 +15,7 @@ use std::{path::PathBuf, time::Duration};
 use clap::{Parser, Subcommand};
 use oxbind_abuse::{
     attacks::{self, HonestClient},
-    server::{server_binary, ServerOptions, ServerProcess},
+    server::{free_port, raise_open_file_limit, server_binary, ServerOptions, ServerProcess},
     tls::MutualTls,
 };
 use serde_json::json;
@@ -79,6 +79,11 @@ enum Attack {
         #[arg(long, default_value_t = 30.0)]
         observe_s: f64,
     },
+    /// Idle mutual-TLS connections (each made one call): the server's memory.
+    TlsConnections {
+        #[arg(long, default_value_t = 250)]
+        connections: usize,
+    },
     /// HTTP/2 connections with no stream that answer every ping.
     IdleConnections {
         #[arg(long, default_value_t = 64)]
@@ -133,8 +138,18 @@ enum Attack {
         singles: usize,
         #[arg(long, default_value_t = 4)]
         batches: usize,
+        #[arg(long, default_value_t = 10_000)]
+        items: usize,
         #[arg(long, default_value_t = 20.0)]
         observe_s: f64,
+    },
+    /// Three replicas on 127.0.0.1, .2 and .3 (one port), one balancing
+    /// client: how the calls spread.
+    Spread {
+        #[arg(long, default_value_t = 3_000)]
+        calls: usize,
+        #[arg(long, default_value_t = 16)]
+        in_flight: usize,
     },
     /// Ten times the call limit at once.
     Overload {
@@ -184,6 +199,7 @@ const ALLOWED_ORIGIN: &str = "https://dashboard.larchmere.example";
 #[tokio::main]
 async fn main() {
     let cli = Cli::parse();
+    raise_open_file_limit();
     let binary = cli.server_bin.clone().unwrap_or_else(server_binary);
     let mut options = ServerOptions::with_args(cli.server_args.clone()).health_listener();
     if let Some(limit) = cli.open_file_limit {
@@ -253,6 +269,21 @@ async fn main() {
             let _ = std::fs::remove_dir_all(dir);
             json!(figures)
         }
+        Attack::TlsConnections { connections } => {
+            let dir = std::env::temp_dir().join(format!("oxbind-abuse-{}", std::process::id()));
+            let tls = MutualTls::create(&dir);
+            options.args.extend(tls.server_args.clone());
+            let server = ServerProcess::start(&binary, &options);
+            let idle = server.memory();
+            let honest = HonestClient::MutualTls {
+                uri: format!("https://localhost:{}", server.address.port()),
+                ca_pem: tls.ca_pem,
+                identity: tls.client,
+            };
+            let (open, memory) = attacks::idle_tls_connections(&server, &honest, connections).await;
+            let _ = std::fs::remove_dir_all(dir);
+            json!({ "memory_at_start": idle, "connections": open, "memory_with_all_open": memory })
+        }
         Attack::IdleConnections {
             connections,
             observe_s,
@@ -317,10 +348,21 @@ async fn main() {
         Attack::StalledReaders {
             singles,
             batches,
+            items,
             observe_s,
         } => {
             let server = ServerProcess::start(&binary, &options);
-            json!(attacks::stalled_readers(&server, singles, batches, secs(observe_s)).await)
+            json!(attacks::stalled_readers(&server, singles, batches, items, secs(observe_s)).await)
+        }
+        Attack::Spread { calls, in_flight } => {
+            let port = free_port();
+            let replicas: Vec<ServerProcess> = (1..=3)
+                .map(|i| {
+                    let options = options.clone().listen(format!("127.0.0.{i}:{port}"));
+                    ServerProcess::start(&binary, &options)
+                })
+                .collect();
+            json!(attacks::spread(&replicas, calls, in_flight).await)
         }
         Attack::Overload { calls, connections } => {
             let server = ServerProcess::start(&binary, &options);

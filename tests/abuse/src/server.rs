@@ -42,6 +42,26 @@ pub fn server_binary() -> PathBuf {
     path
 }
 
+/// Raise this process's soft open-file limit to its hard limit: an attack
+/// holds many sockets.
+pub fn raise_open_file_limit() {
+    use nix::sys::resource::{getrlimit, setrlimit, Resource};
+    if let Ok((soft, hard)) = getrlimit(Resource::RLIMIT_NOFILE) {
+        if soft < hard {
+            let _ = setrlimit(Resource::RLIMIT_NOFILE, hard, hard);
+        }
+    }
+}
+
+/// A free port on loopback, found by binding port 0 and letting it go (for
+/// replicas that must share one port on several loopback addresses).
+pub fn free_port() -> u16 {
+    std::net::TcpListener::bind("127.0.0.1:0")
+        .and_then(|l| l.local_addr())
+        .map(|a| a.port())
+        .expect("a free port")
+}
+
 /// Resident memory of a process, from `/proc/PID/status`.
 #[derive(Debug, Clone, Copy, Default, Serialize, PartialEq)]
 pub struct Memory {
@@ -60,6 +80,10 @@ pub struct ServerOptions {
     pub health_listener: bool,
     /// Start it under this open-file limit (`ulimit -n`, via `sh`).
     pub open_file_limit: Option<u64>,
+    /// Listen address (default `127.0.0.1:0`).
+    pub listen: Option<String>,
+    /// Log filter (default `info`).
+    pub log_filter: Option<String>,
 }
 
 impl ServerOptions {
@@ -86,6 +110,18 @@ impl ServerOptions {
         self.open_file_limit = Some(limit);
         self
     }
+
+    /// Listen on `address` instead of `127.0.0.1:0`.
+    pub fn listen(mut self, address: impl Into<String>) -> Self {
+        self.listen = Some(address.into());
+        self
+    }
+
+    /// Log with `filter` instead of `info`.
+    pub fn log_filter(mut self, filter: impl Into<String>) -> Self {
+        self.log_filter = Some(filter.into());
+        self
+    }
 }
 
 /// A running `oxbind-server`; killed when dropped.
@@ -104,11 +140,14 @@ impl ServerProcess {
     pub fn start(binary: &Path, options: &ServerOptions) -> Self {
         let mut args: Vec<String> = vec![
             "--listen".into(),
-            "127.0.0.1:0".into(),
+            options
+                .listen
+                .clone()
+                .unwrap_or_else(|| "127.0.0.1:0".into()),
             "--log-format".into(),
             "json".into(),
             "--log-filter".into(),
-            "info".into(),
+            options.log_filter.clone().unwrap_or_else(|| "info".into()),
         ];
         if options.health_listener {
             args.extend(["--health-listen".into(), "127.0.0.1:0".into()]);
