@@ -131,7 +131,7 @@ where
     let (reporter, health_service) = tonic_health::server::health_reporter();
     let health_service = health_service.max_decoding_message_size(MAX_HEALTH_MESSAGE_BYTES);
     let tls = tls_acceptor(&config)?;
-    let compute = ComputePool::new(config.compute_threads()).map_err(ServeError::Compute)?;
+    let compute = ComputePool::shared(config.compute_threads()).map_err(ServeError::Compute)?;
     // Cancelled when the drain begins: streaming calls end then.
     let draining = CancellationToken::new();
     let admission = Admission::new(
@@ -249,7 +249,6 @@ where
         let _ = health_stop_tx.send(());
         let _ = tokio::task::spawn_blocking(move || thread.join()).await;
     }
-    compute.shut_down();
     tracing::info!("stopped");
     Ok(())
 }

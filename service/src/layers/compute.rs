@@ -1,6 +1,7 @@
 //! The compute pool: calls with much work (a batch, a long curve, many
-//! pairs) are decoded, computed and answered on a runtime of their own, a
-//! fixed number of threads (`--compute-threads`, default one per core), so
+//! pairs) are decoded, computed and answered on a runtime of their own (one
+//! per process), a fixed number of threads (`--compute-threads`, default one
+//! per core), so
 //! that the threads that accept connections and answer health checks are
 //! never busy with a batch. The operating system shares the cores between
 //! the two; a health check waits at most one scheduler time slice, not a
@@ -20,11 +21,12 @@
 use std::{
     future::Future,
     pin::Pin,
+    sync::OnceLock,
     task::{Context, Poll},
 };
 
 use http::{Request, Response};
-use tokio::runtime::{Handle, Runtime};
+use tokio::runtime::Handle;
 use tonic::body::Body;
 use tower::{Layer, Service};
 
@@ -38,39 +40,49 @@ pub const OFFLOAD_MIN_ITEMS: u64 = 32;
 /// Name of the pool's threads (as `top -H` shows them).
 const THREAD_NAME: &str = "oxbind-compute";
 
-/// The compute runtime. Shut it down with [`ComputePool::shut_down`] (it may
-/// not be dropped inside another runtime).
+/// The process's compute runtime: one per process, started by the first
+/// server that asks and shared by every server after it (a test process
+/// starts many), so its threads live as long as the process.
 #[derive(Debug)]
 pub struct ComputePool {
-    runtime: Runtime,
+    handle: Handle,
 }
 
+/// The process's pool, once started.
+static POOL: OnceLock<ComputePool> = OnceLock::new();
+
 impl ComputePool {
-    /// A pool of `threads` threads.
+    /// The process's pool, started with `threads` threads if it is not yet
+    /// (a later server's thread count is not applied).
     ///
     /// # Errors
     ///
     /// When the operating system refuses the threads.
-    pub fn new(threads: usize) -> std::io::Result<Self> {
+    pub fn shared(threads: usize) -> std::io::Result<&'static ComputePool> {
+        if let Some(pool) = POOL.get() {
+            return Ok(pool);
+        }
         let runtime = tokio::runtime::Builder::new_multi_thread()
             .worker_threads(threads.max(1))
             .thread_name(THREAD_NAME)
             .enable_time()
             .build()?;
-        Ok(Self { runtime })
+        let handle = runtime.handle().clone();
+        if POOL.set(ComputePool { handle }).is_ok() {
+            // The runtime lives as long as the process.
+            std::mem::forget(runtime);
+        } else {
+            // Another server started the pool first: use that one.
+            runtime.shutdown_background();
+        }
+        Ok(POOL.get().expect("set just now"))
     }
 
     /// The layer that sends large calls to this pool.
     pub fn layer(&self) -> ComputeLayer {
         ComputeLayer {
-            handle: self.runtime.handle().clone(),
+            handle: self.handle.clone(),
         }
-    }
-
-    /// Stop the pool without waiting for its tasks (calls still on it are
-    /// dropped, as the connections they answer are closed too).
-    pub fn shut_down(self) {
-        self.runtime.shutdown_background();
     }
 }
 

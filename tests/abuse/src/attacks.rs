@@ -708,6 +708,26 @@ pub struct LoadFigures {
     pub memory: Memory,
 }
 
+/// `connections` connections, each used for one call first, as a
+/// connection already in use would have been: the client then knows the
+/// server's stream limit and queues calls past it instead of opening
+/// streams the server must refuse (REFUSED_STREAM, which gRPC clients retry
+/// on their own).
+async fn warm_connections(
+    address: SocketAddr,
+    connections: usize,
+) -> Vec<h2::client::SendRequest<Bytes>> {
+    let mut sends = Vec::new();
+    for _ in 0..connections {
+        let mut send = wire::h2_connect(address).await.expect("connection");
+        let request = wire::grpc_request(address, wire::HEALTH_CHECK_PATH, &[]);
+        let empty = wire::grpc_frame(&oxbind_client::health::HealthCheckRequest::default());
+        let _ = wire::exchange(&mut send, request, Some(empty), true).await;
+        sends.push(send);
+    }
+    sends
+}
+
 /// Send `messages` (path, encoded message, items) round-robin over
 /// `connections` connections, `in_flight` at once, `rounds` times over.
 async fn flood(
@@ -719,10 +739,7 @@ async fn flood(
 ) -> LoadFigures {
     let probe = HealthProbe::start(server.health_uri()).await;
     let address = server.address;
-    let mut sends = Vec::new();
-    for _ in 0..connections {
-        sends.push(wire::h2_connect(address).await.expect("connection"));
-    }
+    let sends = warm_connections(address, connections).await;
     let start = Instant::now();
     let mut answers = Tally::default();
     let mut items_computed = 0;
@@ -780,10 +797,7 @@ pub async fn batch_flood(
     let probe = HealthProbe::start(server.health_uri()).await;
     let address = server.address;
     let message = wire::grpc_frame(&inputs::batch(items));
-    let mut sends = Vec::new();
-    for _ in 0..connections {
-        sends.push(wire::h2_connect(address).await.expect("connection"));
-    }
+    let sends = warm_connections(address, connections).await;
     let start = Instant::now();
     let until = start + duration;
     let mut set = JoinSet::new();
