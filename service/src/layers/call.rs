@@ -86,6 +86,13 @@ const KNOWN_METHODS: [&str; 16] = [
 /// `rpc.method` for a method the server does not know (semantic conventions).
 pub(crate) const OTHER_METHOD: &str = "_OTHER";
 
+/// The outcome of a call, set as a response extension by a door whose
+/// answers carry no `grpc-status` (a Connect or FHIR handler behind a
+/// dispatch), so that its calls are logged and counted with their real
+/// status rather than as CANCELLED.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct CallOutcome(pub Code);
+
 /// The layer; clone it freely.
 #[derive(Debug, Clone)]
 pub struct CallLayer {
@@ -242,6 +249,9 @@ impl CallRecord {
         }
         if let Some(code) = observe_status(&mut parts.headers) {
             self.status = Some(code);
+        }
+        if let Some(CallOutcome(code)) = parts.extensions.get::<CallOutcome>() {
+            self.status = Some(*code);
         }
         let body = Body::new(CallBody {
             inner: body,
