@@ -546,6 +546,70 @@ impl Extractor for HeaderExtractor<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use std::sync::Mutex;
+    use tower::ServiceExt;
+
+    /// Log lines written while a test runs.
+    #[derive(Clone, Default)]
+    struct Captured(Arc<Mutex<Vec<u8>>>);
+
+    impl std::io::Write for Captured {
+        fn write(&mut self, bytes: &[u8]) -> std::io::Result<usize> {
+            self.0.lock().unwrap().extend_from_slice(bytes);
+            Ok(bytes.len())
+        }
+        fn flush(&mut self) -> std::io::Result<()> {
+            Ok(())
+        }
+    }
+
+    /// The access line of one call answered by `answer`, as logged.
+    async fn logged_status(answer: http::Response<Body>) -> String {
+        let captured = Captured::default();
+        let writer = captured.clone();
+        let subscriber = tracing_subscriber::fmt()
+            .with_writer(move || writer.clone())
+            .with_ansi(false)
+            .with_max_level(tracing::Level::INFO)
+            .finish();
+        let _default = tracing::subscriber::set_default(subscriber);
+        let answer = Arc::new(Mutex::new(Some(answer)));
+        let inner = tower::service_fn(move |_request: http::Request<Body>| {
+            let answer = answer.lock().unwrap().take().expect("one call");
+            std::future::ready(Ok::<_, std::convert::Infallible>(answer))
+        });
+        let mut service = CallLayer::new(Duration::from_secs(5)).layer(inner);
+        let request = http::Request::builder()
+            .uri("/oxbind.v1.DissociationService/SaturationFromTension")
+            .body(Body::empty())
+            .unwrap();
+        let response = service.ready().await.unwrap().call(request).await.unwrap();
+        let _ = http_body_util::BodyExt::collect(response.into_body()).await;
+        let text = String::from_utf8(captured.0.lock().unwrap().clone()).unwrap();
+        text.lines()
+            .find(|l| l.contains("call"))
+            .and_then(|l| l.split("status=").nth(1))
+            .and_then(|rest| rest.split_whitespace().next())
+            .unwrap_or_default()
+            .to_owned()
+    }
+
+    #[tokio::test]
+    async fn a_door_without_grpc_status_sets_the_outcome_it_is_logged_with() {
+        let mut answer = http::Response::new(Body::new(http_body_util::Full::new(
+            Bytes::from_static(b"{}"),
+        )));
+        answer
+            .extensions_mut()
+            .insert(CallOutcome(Code::InvalidArgument));
+        assert_eq!(logged_status(answer).await, "\"INVALID_ARGUMENT\"");
+        // Without it, an answer that never says its status is an abandoned
+        // call.
+        let bare = http::Response::new(Body::new(http_body_util::Full::new(
+            Bytes::from_static(b"{}"),
+        )));
+        assert_eq!(logged_status(bare).await, "\"CANCELLED\"");
+    }
 
     fn headers(pairs: &[(&'static str, &'static str)]) -> HeaderMap {
         let mut map = HeaderMap::new();
