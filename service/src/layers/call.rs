@@ -605,9 +605,9 @@ mod tests {
         assert_eq!(logged_status(answer).await, "\"INVALID_ARGUMENT\"");
         // Without it, an answer that never says its status is an abandoned
         // call.
-        let bare = http::Response::new(Body::new(http_body_util::Full::new(
-            Bytes::from_static(b"{}"),
-        )));
+        let bare = http::Response::new(Body::new(http_body_util::Full::new(Bytes::from_static(
+            b"{}",
+        ))));
         assert_eq!(logged_status(bare).await, "\"CANCELLED\"");
     }
 
