@@ -233,10 +233,11 @@ async fn ten_times_overload_gets_only_ok_or_resource_exhausted_and_health_answer
 /// RESOURCE_EXHAUSTED, and health answers throughout.
 #[tokio::test(flavor = "multi_thread", worker_threads = 2)]
 async fn the_heaviest_mix_stays_under_the_memory_bound_and_health_answers() {
-    // The default limits; only the call timeout is raised, as this debug
-    // build computes a 10,000-item batch many times slower than a release
-    // build does (the timeout plays no part in the bound).
-    let server = start(&["--call-timeout", "60s"]);
+    // The default limits; only the call and request-arrival timeouts are
+    // raised, as this debug build receives and computes a 10,000-item batch
+    // many times slower than a release build does (neither plays a part in
+    // the bound).
+    let server = start(&["--call-timeout", "60s", "--request-arrival-timeout", "30s"]);
     let mix = attacks::WorstMix {
         pending_connections: 246,
         streams_per_connection: 16,
