@@ -284,7 +284,11 @@ impl ConnectionState {
 
     /// Whether a call in progress is stuck past its time.
     fn has_stuck_call(&self) -> bool {
-        let now = Instant::now();
+        self.has_stuck_call_at(Instant::now())
+    }
+
+    /// Whether a call in progress is stuck past its time at `now`.
+    fn has_stuck_call_at(&self, now: Instant) -> bool {
         self.clocks
             .lock()
             .expect("clock list")
@@ -682,16 +686,17 @@ mod tests {
     async fn a_call_open_past_its_time_is_stuck() {
         let state = ConnectionState::detached();
         let guard = CallGuard::new(state.clone());
-        assert!(!state.has_stuck_call(), "no time set: never stuck");
-        guard
-            .clock
-            .must_end_by(Instant::now() - STUCK_CALL_MARGIN - Duration::from_millis(10));
-        assert!(state.has_stuck_call());
-        guard
-            .clock
-            .must_end_by(Instant::now() + Duration::from_secs(5));
-        assert!(!state.has_stuck_call());
+        let later = Instant::now() + Duration::from_secs(60);
+        assert!(!state.has_stuck_call_at(later), "no time set: never stuck");
+        let due = Instant::now() + Duration::from_secs(2);
+        guard.clock.must_end_by(due);
+        assert!(!state.has_stuck_call_at(due + STUCK_CALL_MARGIN / 2));
+        assert!(state.has_stuck_call_at(due + STUCK_CALL_MARGIN * 2));
+        assert!(!state.has_stuck_call(), "not yet");
         drop(guard);
-        assert!(!state.has_stuck_call());
+        assert!(
+            !state.has_stuck_call_at(later),
+            "an ended call is never stuck"
+        );
     }
 }
