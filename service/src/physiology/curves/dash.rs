@@ -12,9 +12,10 @@
 //! (attributed to Siggaard-Andersen 1971, as used with the 2016 equations). When
 //! 2,3-DPG is not given the model's own standard, 4.65 mmol/L, is used.
 
-use super::conditions::{Condition, Conditions};
-use super::error::{Input, PhysiologyError};
-use super::model::{impl_dissociation_model, invert_by_logit, Curve, ModelInfo, ValidatedRange};
+use super::curve::{invert_by_logit, Curve, ModelInfo, ValidatedRange};
+use super::prepared::impl_dissociation_model;
+use crate::physiology::conditions::{Condition, Conditions};
+use crate::physiology::error::{Input, PhysiologyError};
 use std::f64::consts::LN_10;
 
 /// Standard P50, mmHg.
@@ -169,7 +170,7 @@ fn factor(change_mmhg: f64, input: Input, value: f64) -> Result<f64, PhysiologyE
 /// `PO2` in mmHg (>= 0). Dash RK, Korman B, Bassingthwaighte JB. *Eur J Appl Physiol*
 /// 2016;116(1):97–113, Eq. 11 and Table 1 (as commonly reproduced).
 pub fn hill_coefficient(po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-    let p = super::model::check_po2(po2_mmhg)?;
+    let p = super::curve::check_po2(po2_mmhg)?;
     Ok(n_h(p).0)
 }
 
@@ -230,7 +231,7 @@ impl Curve for DashCurve {
     }
     fn tension(&self, saturation: f64) -> Result<f64, PhysiologyError> {
         // Start from the Hill inverse with the mid-curve coefficient at P50.
-        let guess = self.p50 * (super::model::logit_of(saturation) / n_h(self.p50).0).exp();
+        let guess = self.p50 * (super::curve::logit_of(saturation) / n_h(self.p50).0).exp();
         invert_by_logit(self, saturation, guess, INFO.id)
     }
 }

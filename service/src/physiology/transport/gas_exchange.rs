@@ -6,10 +6,12 @@
 use super::content::{
     content_of_sample, BloodOxygenSample, OxygenContent, SampleRole, SaturationKind,
 };
-use super::error::{require_finite, require_within, Input, PhysiologyError};
-use super::severinghaus::tension_from_saturation_standard_mmhg;
-use super::temperature::{PRESSURE_MAX_MMHG, TEMPERATURE_MAX_CELSIUS, TEMPERATURE_MIN_CELSIUS};
-use super::units::{percent_from_fraction, PASCALS_PER_MMHG};
+use crate::physiology::curves::severinghaus::tension_from_saturation_standard_mmhg;
+use crate::physiology::error::{require_finite, require_within, Input, PhysiologyError};
+use crate::physiology::temperature::{
+    PRESSURE_MAX_MMHG, TEMPERATURE_MAX_CELSIUS, TEMPERATURE_MIN_CELSIUS,
+};
+use crate::physiology::units::{percent_from_fraction, PASCALS_PER_MMHG};
 
 /// Buck 1996 saturation vapour pressure over liquid water: the value at 0 °C,
 /// hPa.
@@ -618,7 +620,7 @@ pub fn oxygenation_index(
         0.0,
         MEAN_AIRWAY_PRESSURE_MAX_CMH2O,
     )?;
-    let pao2 = super::error::require_positive(pao2_mmhg, Input::Pao2)?;
+    let pao2 = crate::physiology::error::require_positive(pao2_mmhg, Input::Pao2)?;
     let pao2 = require_within(pao2, Input::Pao2, 0.0, PRESSURE_MAX_MMHG)?;
     finite_index(fio2 * map * 100.0 / pao2, Input::Pao2, pao2)
 }

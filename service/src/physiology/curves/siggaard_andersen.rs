@@ -11,13 +11,14 @@
 //! (our judgement; documented in the catalog). The later (1990) update form with a
 //! separate PCO2 term is not implemented (its coefficients are unverified).
 
-use super::conditions::{
+use super::curve::{logit_of, Curve, ModelInfo, ValidatedRange};
+use super::prepared::impl_dissociation_model;
+use crate::physiology::conditions::{
     Condition, Conditions, STANDARD_DPG_MMOL_PER_L, STANDARD_PH, STANDARD_TEMPERATURE_CELSIUS,
 };
-use super::error::{Input, PhysiologyError};
-use super::model::{impl_dissociation_model, logit_of, Curve, ModelInfo, ValidatedRange};
-use super::solver::solve_increasing;
-use super::units::KPA_PER_MMHG;
+use crate::physiology::error::{Input, PhysiologyError};
+use crate::physiology::solver::solve_increasing;
+use crate::physiology::units::KPA_PER_MMHG;
 
 /// y0 = ln(s/(1 - s)) of the reference point (≈ ln(0.867/0.133)).
 pub const Y0: f64 = 1.875;

@@ -13,12 +13,13 @@
 //! exceeds 1 above 8949.9 mmHg (both derived from the coefficients); outside that
 //! interval the model refuses with [`PhysiologyError::OutsideModelDomain`].
 
-use super::conditions::{
+use super::curve::{invert_by_logit, Curve, ModelInfo, ValidatedRange};
+use super::prepared::impl_dissociation_model;
+use super::severinghaus;
+use crate::physiology::conditions::{
     Condition, Conditions, STANDARD_PCO2_MMHG, STANDARD_PH, STANDARD_TEMPERATURE_CELSIUS,
 };
-use super::error::{Input, PhysiologyError};
-use super::model::{impl_dissociation_model, invert_by_logit, Curve, ModelInfo, ValidatedRange};
-use super::severinghaus;
+use crate::physiology::error::{Input, PhysiologyError};
 
 /// Kelman a1 (mmHg).
 pub const A1: f64 = -8.532_228_9e3;
@@ -129,7 +130,7 @@ fn virtual_factor(c: &Conditions) -> f64 {
 /// Kelman GR. *J Appl Physiol* 1966;21(4):1375–1376 (coefficients as commonly
 /// reproduced; primary text not checked).
 pub fn saturation_at_virtual_po2(virtual_po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-    let x = super::model::check_positive_po2(virtual_po2_mmhg)?;
+    let x = super::curve::check_positive_po2(virtual_po2_mmhg)?;
     let (n, m) = parts(x)?;
     Ok(n / (n + m))
 }

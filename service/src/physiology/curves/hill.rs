@@ -22,13 +22,13 @@
 //! as for every haemoglobin model. The myoglobin preset uses no shift scheme (no
 //! Bohr or DPG effect), and then reports every given condition as not modelled.
 
-use super::conditions::{
+use super::curve::{logit_of, Curve, ModelInfo, ValidatedRange};
+use super::kelman;
+use crate::physiology::conditions::{
     Condition, ConditionSet, Conditions, STANDARD_DPG_MMOL_PER_L, STANDARD_PCO2_MMHG, STANDARD_PH,
     STANDARD_TEMPERATURE_CELSIUS,
 };
-use super::error::{require_positive, Input, PhysiologyError};
-use super::kelman;
-use super::model::{logit_of, Curve, ModelInfo, ValidatedRange};
+use crate::physiology::error::{require_positive, Input, PhysiologyError};
 use std::f64::consts::LN_10;
 
 /// 2,3-DPG coefficient of the shift scheme, ln P50 per mmol/L (Siggaard-Andersen 1984).
@@ -161,7 +161,7 @@ pub fn shift_log10(conditions: &Conditions) -> f64 {
 ///
 /// Hill AV. *J Physiol* 1910;40(Suppl):iv–vii (from memory).
 pub fn hill_saturation(po2_mmhg: f64, p50_mmhg: f64, n: f64) -> Result<f64, PhysiologyError> {
-    let p = super::model::check_po2(po2_mmhg)?;
+    let p = super::curve::check_po2(po2_mmhg)?;
     let curve = Hill {
         p50_mmhg,
         n,
@@ -185,7 +185,7 @@ pub fn hill_saturation(po2_mmhg: f64, p50_mmhg: f64, n: f64) -> Result<f64, Phys
 /// `S` strictly inside (0, 1); `P`, `P50` in mmHg. Hill AV. *J Physiol*
 /// 1910;40(Suppl):iv–vii (from memory).
 pub fn hill_tension_mmhg(saturation: f64, p50_mmhg: f64, n: f64) -> Result<f64, PhysiologyError> {
-    let s = super::model::check_inverse_saturation(saturation)?;
+    let s = super::curve::check_inverse_saturation(saturation)?;
     Hill {
         p50_mmhg,
         n,
@@ -253,7 +253,7 @@ Siggaard-Andersen M. Clin Chem 1984;30(10):1646–1651 (2,3-DPG).",
     is_default: false,
 };
 
-super::model::impl_dissociation_model!(
+super::prepared::impl_dissociation_model!(
     Hill,
     &INFO,
     fn unmodelled_conditions(&self, conditions: &Conditions) -> ConditionSet {

@@ -18,13 +18,15 @@
 //! [`po2_at_temperature_mmhg`]); for anaerobic blood the saturation is the same at
 //! both temperatures.
 
-use super::conditions::{Condition, Conditions, STANDARD_PH, STANDARD_TEMPERATURE_CELSIUS};
-use super::error::{require_finite, Input, PhysiologyError};
-use super::model::{
-    check_inverse_saturation, check_po2, impl_dissociation_model, logit_of, Curve, ModelInfo,
-    ValidatedRange,
+use super::curve::{
+    check_inverse_saturation, check_po2, logit_of, Curve, ModelInfo, ValidatedRange,
 };
-use super::solver::solve_increasing;
+use super::prepared::impl_dissociation_model;
+use crate::physiology::conditions::{
+    Condition, Conditions, STANDARD_PH, STANDARD_TEMPERATURE_CELSIUS,
+};
+use crate::physiology::error::{require_finite, Input, PhysiologyError};
+use crate::physiology::solver::solve_increasing;
 use std::f64::consts::LN_10;
 
 /// Eq. 1 constant term, mmHg³: S = 1/(23400/(P³ + 150·P) + 1).
@@ -330,7 +332,7 @@ fn temperature_map(u: f64, delta_celsius: f64) -> Result<f64, PhysiologyError> {
 /// 1986;36(1):163–175 (attributed to Severinghaus JW, *J Appl Physiol: Respir Environ
 /// Exerc Physiol* 1979;46(3):599–602).
 pub fn bohr_factor_log10_per_ph(po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-    let p = super::model::check_positive_po2(po2_mmhg)?;
+    let p = super::curve::check_positive_po2(po2_mmhg)?;
     Ok(inaba_fb(p))
 }
 
@@ -352,7 +354,7 @@ fn inaba_fb(p: f64) -> f64 {
 /// Severinghaus JW. Simple, accurate equations for human blood O2 dissociation
 /// computations. *J Appl Physiol: Respir Environ Exerc Physiol* 1979;46(3):599–602, Eq. 4.
 pub fn bohr_coefficient_eq4_ln_per_ph(po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-    let p = super::model::check_positive_po2(po2_mmhg)?;
+    let p = super::curve::check_positive_po2(po2_mmhg)?;
     Ok((p / EQ4_REFERENCE_MMHG).powf(EQ4_EXPONENT) - EQ4_OFFSET)
 }
 

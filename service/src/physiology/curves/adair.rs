@@ -8,10 +8,11 @@
 //! The constant set describes the standard curve only: no condition other than
 //! COHb (through the Haldane relation) moves it.
 
-use super::conditions::{Condition, Conditions};
-use super::error::{Input, PhysiologyError};
-use super::model::{impl_dissociation_model, invert_by_logit, Curve, ModelInfo, ValidatedRange};
+use super::curve::{invert_by_logit, Curve, ModelInfo, ValidatedRange};
+use super::prepared::impl_dissociation_model;
 use super::severinghaus;
+use crate::physiology::conditions::{Condition, Conditions};
+use crate::physiology::error::{Input, PhysiologyError};
 
 /// First stepwise dissociation constant K1, mmHg (Keener & Sneyd).
 pub const K1_MMHG: f64 = 45.9;
@@ -69,7 +70,7 @@ Mathematical Physiology, 3rd ed., Springer, Ch. 14 §14.2.2.",
 /// Adair GS. *J Biol Chem* 1925;63:529–545; constants from Keener J, Sneyd J.
 /// *Mathematical Physiology*, 3rd ed., Springer, Ch. 14 §14.2.2.
 pub fn adair_saturation(po2_mmhg: f64) -> Result<f64, PhysiologyError> {
-    let p = super::model::check_po2(po2_mmhg)?;
+    let p = super::curve::check_po2(po2_mmhg)?;
     let (n, m) = parts(p);
     Ok(n / (n + m))
 }

@@ -30,9 +30,9 @@
 //! allosteric left shift is not modelled by any model (so a given MetHb is reported
 //! as a condition not modelled).
 
-use super::error::{require_within, Input, PhysiologyError};
-use super::model::{logistic, Curve};
-use super::solver::solve_increasing;
+use super::curve::{logistic, Curve};
+use crate::physiology::error::{require_within, Input, PhysiologyError};
+use crate::physiology::solver::solve_increasing;
 
 /// Haldane constant M of adult haemoglobin at physiological conditions
 /// (median 218, IQR 191–257; *Human Physiology* 2020 meta-analysis,
@@ -120,8 +120,8 @@ pub fn cohb_to_o2hb_ratio(
     haldane_constant: f64,
 ) -> Result<f64, PhysiologyError> {
     let pco = require_within(pco_mmhg, Input::Cohb, 0.0, f64::MAX)?;
-    let po2 = super::model::check_positive_po2(po2_mmhg)?;
-    let m = super::error::require_positive(haldane_constant, Input::Cohb)?;
+    let po2 = super::curve::check_positive_po2(po2_mmhg)?;
+    let m = crate::physiology::error::require_positive(haldane_constant, Input::Cohb)?;
     Ok(m * pco / po2)
 }
 
@@ -206,7 +206,7 @@ pub(crate) fn tension_with_cohb<C: Curve>(
 ) -> Result<f64, PhysiologyError> {
     let y = sigma * (1.0 - f);
     let t = f + y;
-    let p_eq = curve.tension(super::model::check_inverse_saturation(t)?)?;
+    let p_eq = curve.tension(super::curve::check_inverse_saturation(t)?)?;
     Ok(p_eq * y / t)
 }
 

@@ -6,9 +6,9 @@
 //! blood at STPD, flows mL/min); SI helpers at the end convert with the O2
 //! molar volume.
 
-use super::error::{require_finite, require_within, Input, PhysiologyError};
-use super::temperature::PRESSURE_MAX_MMHG;
-use super::units::KPA_PER_MMHG;
+use crate::physiology::error::{require_finite, require_within, Input, PhysiologyError};
+use crate::physiology::temperature::PRESSURE_MAX_MMHG;
+use crate::physiology::units::KPA_PER_MMHG;
 
 /// Hüfner factor for *fractional* saturation (FO2Hb from a CO-oximeter,
 /// dyshaemoglobins already excluded), mL O2 per g Hb: the theoretical value
