@@ -469,21 +469,62 @@ fn inverses_reach_the_required_accuracy_over_the_guaranteed_range() {
     }
 }
 
+// Kelman 1966 over its whole range (issue 11): the low-tension branch below the
+// join, the rational function above it; continuous at the join (derived: the join
+// is where the two published pieces meet), strictly increasing from 1 mmHg up,
+// no refusal in the physiological range, and an exact inverse on both pieces.
 #[test]
-fn kelman_refuses_below_its_zero_crossing_and_never_leaves_zero_one() {
+fn kelman_is_continuous_increasing_and_invertible_over_its_whole_range() {
     let k = Model::Kelman1966(kelman::Kelman1966);
-    for p in [0.0, 1.0, 4.0, 4.66] {
-        match k.saturation(p, &Conditions::STANDARD) {
-            Err(PhysiologyError::OutsideModelDomain { model, .. }) => {
-                assert_eq!(model, "kelman-1966")
-            }
-            other => panic!("PO2 {p}: expected OutsideModelDomain, got {other:?}"),
+    let c = Conditions::STANDARD;
+    let xj = kelman::JOIN_VIRTUAL_MMHG;
+    // Both published pieces give the same saturation at the join.
+    let low = kelman::LOW_LINEAR_PER_MMHG * xj + kelman::LOW_QUADRATIC_PER_MMHG2 * xj * xj;
+    let (a, b) = (kelman::A1, kelman::A2);
+    let rational = (xj * (a + xj * (b + xj * (kelman::A3 + xj))))
+        / (kelman::A4 + xj * (kelman::A5 + xj * (kelman::A6 + xj * (kelman::A7 + xj))));
+    assert!((low - rational).abs() < 1e-15, "{low} vs {rational}");
+    assert!((low - kelman::JOIN_SATURATION).abs() < 1e-15);
+    // Continuous across the join: the two sides differ by no more than the slope
+    // times the step.
+    let below = k.saturation(xj * (1.0 - 1e-12), &c).unwrap();
+    let above = k.saturation(xj, &c).unwrap();
+    assert!((above - below).abs() < 1e-12, "{below} vs {above}");
+    // Strictly increasing from 1 mmHg up, under acid and alkaline conditions too.
+    for ph in [7.0, 7.4, 7.6] {
+        let c = Conditions {
+            ph: Some(ph),
+            ..Conditions::STANDARD
+        };
+        let mut last = k.logit_saturation(1.0, &c).unwrap();
+        let mut p = 1.0;
+        while p < 600.0 {
+            p *= 1.0005;
+            let now = k.logit_saturation(p, &c).unwrap();
+            assert!(now > last, "pH {ph}: not increasing at {p} mmHg");
+            last = now;
+        }
+        // An exact inverse on both pieces.
+        for s in [1e-4, 0.01, 0.05, 0.1, 0.1155, 0.1156, 0.2, 0.5, 0.9, 0.99] {
+            let p = k.tension_mmhg(s, &c).unwrap();
+            let back = k.saturation(p, &c).unwrap();
+            assert!(
+                (back - s).abs() < 1e-12 * s.max(1e-3),
+                "pH {ph}: S {s} -> {p} -> {back}"
+            );
         }
     }
-    // Just above the crossing the value is tiny but inside [0, 1] (derived from the
-    // coefficients).
-    let s = k.saturation(4.7, &Conditions::STANDARD).unwrap();
-    assert!((0.0..0.01).contains(&s), "{s}");
+    // PO2 0 gives 0; above the rational function's domain (R > 1 beyond
+    // 8949.9 mmHg of virtual PO2) the model still refuses.
+    assert_eq!(k.saturation(0.0, &c).unwrap(), 0.0);
+    let cold = Conditions {
+        temperature_celsius: Some(20.0),
+        ..Conditions::STANDARD
+    };
+    match k.saturation(7600.0, &cold) {
+        Err(PhysiologyError::OutsideModelDomain { model, .. }) => assert_eq!(model, "kelman-1966"),
+        other => panic!("expected OutsideModelDomain, got {other:?}"),
+    }
 }
 
 #[test]

@@ -468,7 +468,7 @@ async fn shift_factors_example_is_true() {
         printed(c.log10_p50_shift, shift);
         assert_eq!(c.direction, direction as i32, "{factor:?}");
     }
-    model_of(&r.provenance, "kelman-1966", "1.0.0", true);
+    model_of(&r.provenance, "kelman-1966", "1.1.0", true);
     warnings_are(&r.warnings, &[]);
     server.stop().await;
 }

@@ -36,6 +36,12 @@ const B4: f64 = B3 / K4_MMHG;
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct Adair;
 
+/// Sources followed (published in the catalog).
+pub const NOTES: &str = "Adair's four-step equation with the constants K1..K4 = 45.9, 23.9, 243.1, \
+1.52 mmHg used by Keener and Sneyd (Mathematical Physiology, 3rd ed., ch. 14, and their published \
+companion code, which gives the same curve); the experimental origin of these four constants was not \
+established. Standard conditions only: no condition other than carbon monoxide moves the curve.";
+
 /// Catalog entry of [`Adair`].
 pub static INFO: ModelInfo = ModelInfo {
     id: "adair",
@@ -54,6 +60,7 @@ Mathematical Physiology, 3rd ed., Springer, Ch. 14 §14.2.2.",
         max: 150.0,
     }],
     is_default: false,
+    notes: NOTES,
 };
 
 /// Fractional saturation Y from the Adair equation.

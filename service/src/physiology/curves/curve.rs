@@ -49,6 +49,10 @@ pub struct ModelInfo {
     pub validated_ranges: &'static [ValidatedRange],
     /// Whether this is the service's default model.
     pub is_default: bool,
+    /// Which source the implementation follows where published sources
+    /// disagree, why, and how large each difference is at typical conditions;
+    /// any rule of ours (for example how two published pieces are joined).
+    pub notes: &'static str,
 }
 
 impl ModelInfo {

@@ -53,6 +53,19 @@ pub const HILL_GAMMA_MMHG: f64 = 29.25;
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct Dash2016;
 
+/// Sources followed and their disagreements (published in the catalog).
+pub const NOTES: &str = "Follows the 2016 paper's equations (9a-9d, 10, 11, Table 1) as transcribed by \
+independent reimplementations: plasma pH to red-cell pH by 0.795 x pH + 1.357; PCO2 term 0.1273 and \
+1.083e-4; temperature term 1.435, 4.163e-2, 6.86e-4; nH = 2.82 - 1.20 x 10^(-PO2/29.25). The authors' own \
+published 2016 code differs: red-cell pH = plasma pH + log10(0.69) (P50 at pH 7.0 38.87 against 36.05 \
+mmHg here, at pH 7.2 32.38 against 31.14, at pH 7.6 22.13 against 23.00; at pH 7.4 26.83 against 26.80); \
+PCO2 term 1.7 x (0.0428, 3.64e-5), i.e. 0.0728 mmHg per mmHg (P50 at PCO2 60 mmHg 28.31 against 29.39, \
+at 20 mmHg 25.40 against 24.30); temperature term 0.98 x (1.4945, 0.04335, 0.0007) (P50 at 39 C 29.94 \
+against 29.84, at 33 C 21.60 against 21.68); nH constants 2.8, 1.2, 29.2 (at most 0.0018 in S, near 13 \
+mmHg). All differences together change S at standard conditions by at most 0.0021. We follow the paper \
+because it is the peer-reviewed description the model id names; the paper's full text was not available \
+to us (abstract only), so its coefficients are those two independent transcriptions agree on.";
+
 /// Catalog entry of [`Dash2016`].
 pub static INFO: ModelInfo = ModelInfo {
     id: "dash-2016",
@@ -93,6 +106,7 @@ Eur J Appl Physiol 2016;116(1):97–113. Coefficients as commonly reproduced; pr
         },
     ],
     is_default: false,
+    notes: NOTES,
 };
 
 /// P50 of the Dash 2016 model at `conditions`, mmHg.

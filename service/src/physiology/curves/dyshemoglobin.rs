@@ -145,7 +145,7 @@ fn haldane_residual<C: Curve>(
         // Beyond the curve's evaluable range the model is at least this saturated.
         (curve.logit(curve.max_po2_mmhg())?, 0.0)
     } else if ln_eq <= curve.min_po2_mmhg().ln() {
-        // Below it (Kelman's zero crossing) the model is at most this saturated.
+        // Below it the model is at most this saturated.
         (curve.logit(curve.min_po2_mmhg())?, 0.0)
     } else {
         curve.logit_and_slope(ln_eq.exp())?

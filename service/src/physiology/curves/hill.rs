@@ -226,6 +226,12 @@ impl Curve for HillCurve {
     }
 }
 
+/// Sources followed (published in the catalog).
+pub const NOTES: &str = "The Hill equation with caller-set P50 and n. Conditions move P50 by our \
+documented scheme (Kelman 1966's factors for pH, PCO2 and temperature; Siggaard-Andersen 1984's 0.07 per \
+mmol/L for 2,3-DPG), keeping n. The adult preset (P50 26.8 mmHg, n 2.7) lies within 0.02 in S of \
+Severinghaus Eq. 1 between 20 and 100 mmHg; a fixed n departs most at the two ends of the curve.";
+
 /// Catalog entry of [`Hill`].
 pub static INFO: ModelInfo = ModelInfo {
     id: "hill",
@@ -251,6 +257,7 @@ Siggaard-Andersen M. Clin Chem 1984;30(10):1646–1651 (2,3-DPG).",
         max: 0.9,
     }],
     is_default: false,
+    notes: NOTES,
 };
 
 super::prepared::impl_dissociation_model!(

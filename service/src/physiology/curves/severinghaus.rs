@@ -81,6 +81,18 @@ pub const INABA_BASE_EXCESS_LOG10_PER_MMOL_PER_L: f64 = 0.0013;
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct Severinghaus1979;
 
+/// Sources followed and their disagreements (published in the catalog).
+pub const NOTES: &str = "Eq. 1 and Eq. 3 as printed in the 1979 abstract; the inverse is Ellis's \
+exact inverse of Eq. 1 (Eq. 2 is only approximate: 0.03 mmHg off at S 0.5, 4.4 mmHg at S 0.99). pH and \
+base excess act through the virtual-PO2 form restated by Inaba et al. 1986, vPO2 = PO2 x \
+10^(fB x (7.4 - pH) - 0.0013 x BE) with fB = (PO2/26.6)^0.08 - 1.52 taken at the measured PO2, because it \
+is the published procedure that also covers base excess. Integrating Severinghaus' own Eq. 4 \
+(d ln PO2/d pH = (PO2/26.6)^0.184 - 2.2) from the sample's pH to 7.40 instead gives a lower saturation by \
+up to 0.0032 at pH 7.2 (near PO2 34 mmHg), 0.012 at pH 7.0 (near 43 mmHg) and 0.026 at pH 6.8, and by up to \
+0.0026 at pH 7.6; P50 at pH 7.0 is 41.90 mmHg here against 42.61 mmHg with Eq. 4 integrated. Temperature: \
+Eq. 3 integrated exactly (a single step with the coefficient at the starting PO2 differs by up to 0.8 % in \
+PO2 over 4 C).";
+
 /// Catalog entry of [`Severinghaus1979`].
 pub static INFO: ModelInfo = ModelInfo {
     id: "severinghaus-1979",
@@ -117,6 +129,7 @@ Mizuguchi T, Hirasawa H. Jpn J Physiol 1986;36(1):163–175.",
         },
     ],
     is_default: true,
+    notes: NOTES,
 };
 
 /// Functional saturation at standard conditions, Severinghaus 1979 Eq. 1.

@@ -41,6 +41,15 @@ pub const DPG_LN_PER_MMOL_PER_L: f64 = 0.07;
 #[derive(Debug, Clone, Copy, Default, PartialEq, Eq)]
 pub struct SiggaardAndersen1984;
 
+/// Sources followed and their disagreements (published in the catalog).
+pub const NOTES: &str = "The 1984 equations as printed in the Clin Chem abstract: pH at constant base \
+excess (1.04 per pH unit), base excess, 2,3-DPG, temperature. The later oxygen status algorithm (model \
+siggaard-andersen-1990) rounds the reference point differently (y0 1.8747 and x0 = ln 7 kPa against 1.875 \
+and 1.946 here): at standard conditions the two curves differ by at most 0.00002 in S and P50 is 26.8391 \
+here against 26.8397 mmHg. Its pH term is at constant PCO2 with a separate PCO2 term, so at pH 7.2 P50 is \
+33.91 mmHg here against 32.72 mmHg there. pH is used as given (the abstract does not say at which \
+temperature).";
+
 /// Catalog entry of [`SiggaardAndersen1984`].
 pub static INFO: ModelInfo = ModelInfo {
     id: "siggaard-andersen-1984",
@@ -76,6 +85,7 @@ temperature. Clin Chem 1984;30(10):1646–1651.",
         },
     ],
     is_default: false,
+    notes: NOTES,
 };
 
 /// The tanh curve with its conditions applied.
