@@ -15,7 +15,9 @@ use oxbind_service::physiology::shift::{
     shift_factors, standard_equivalent_po2_mmhg, ShiftDirection,
 };
 use oxbind_service::physiology::tolerance::{INVERSE_MAX_SATURATION, INVERSE_MIN_SATURATION};
-use oxbind_service::physiology::{dash, kelman, severinghaus, siggaard_andersen};
+use oxbind_service::physiology::{
+    dash, kelman, severinghaus, siggaard_andersen, siggaard_andersen_1990,
+};
 use serde::Deserialize;
 
 fn data_path(name: &str) -> String {
@@ -130,6 +132,11 @@ struct FunctionRow {
     source: String,
 }
 
+/// The Siggaard-Andersen oxygen status algorithm model.
+fn sa1990() -> Model {
+    Model::SiggaardAndersen1990(siggaard_andersen_1990::SiggaardAndersen1990)
+}
+
 fn evaluate(function: &str, x: f64) -> Result<f64, PhysiologyError> {
     let at = |ph: Option<f64>, pco2: Option<f64>, t: Option<f64>| Conditions {
         ph,
@@ -209,6 +216,33 @@ fn evaluate(function: &str, x: f64) -> Result<f64, PhysiologyError> {
         "single_point_standard_hill_p50_kelman" => {
             single_point_p50(&pair(7.30), &sev, Standardisation::Kelman)?.standard_hill_mmhg
         }
+        "sa1990_p50_hbf_mmhg" => sa1990().p50_mmhg(&Conditions {
+            hbf_fraction: Some(x),
+            ..Conditions::STANDARD
+        })?,
+        "sa1990_p50_methb_mmhg" => sa1990().p50_mmhg(&Conditions {
+            methb_fraction: Some(x),
+            ..Conditions::STANDARD
+        })?,
+        "sa1990_p50_cohb_mmhg" => sa1990().p50_mmhg(&Conditions {
+            cohb_fraction: Some(x),
+            ..Conditions::STANDARD
+        })?,
+        "sa1990_cohb_p50_linear_slope_kpa" => {
+            let with = sa1990().p50_mmhg(&Conditions {
+                cohb_fraction: Some(x),
+                ..Conditions::STANDARD
+            })?;
+            let without = sa1990().p50_mmhg(&Conditions::STANDARD)?;
+            oxbind_service::physiology::units::kpa_from_mmhg(with - without) / x
+        }
+        "sa1990_cohb_p50_ln_slope" => {
+            let with = sa1990().p50_mmhg(&Conditions {
+                cohb_fraction: Some(x),
+                ..Conditions::STANDARD
+            })?;
+            (with / sa1990().p50_mmhg(&Conditions::STANDARD)?).ln() / x
+        }
         other => panic!("unknown function {other}"),
     })
 }
@@ -241,7 +275,7 @@ fn all_models() -> Vec<Model> {
 }
 
 #[test]
-fn catalog_has_six_models_and_one_default() {
+fn catalog_has_seven_models_and_one_default() {
     // Model ids fixed by the design (design.md "Model ids").
     let ids: Vec<&str> = catalog().iter().map(|i| i.id).collect();
     assert_eq!(
@@ -252,13 +286,15 @@ fn catalog_has_six_models_and_one_default() {
             "hill",
             "adair",
             "siggaard-andersen-1984",
-            "dash-2016"
+            "dash-2016",
+            "siggaard-andersen-1990"
         ]
     );
     assert_eq!(catalog().iter().filter(|i| i.is_default).count(), 1);
     assert_eq!(DEFAULT_MODEL.info().id, "severinghaus-1979");
     for info in catalog() {
         assert!(!info.reference.is_empty(), "{} has no reference", info.id);
+        assert!(!info.notes.is_empty(), "{} has no source notes", info.id);
     }
 }
 

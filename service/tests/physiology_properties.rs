@@ -8,7 +8,7 @@ use oxbind_service::physiology::model::{catalog, DissociationModel, Model};
 use oxbind_service::physiology::shift::{p50_at_conditions_mmhg, shift_factors};
 use proptest::prelude::*;
 
-/// The six catalog models plus the fetal and myoglobin Hill presets.
+/// Every catalog model plus the fetal and myoglobin Hill presets.
 fn models() -> Vec<Model> {
     let mut m: Vec<Model> = catalog()
         .iter()

@@ -576,6 +576,7 @@ async fn every_model_answers_and_the_hill_presets_apply() {
         Model::Adair,
         Model::SiggaardAndersen1984,
         Model::Dash2016,
+        Model::SiggaardAndersen1990,
     ] {
         let response = client
             .saturation_from_tension(SaturationFromTensionRequest {

@@ -818,6 +818,11 @@ async fn list_models_example_is_true() {
                 false
             ),
             (Model::Dash2016 as i32, "dash-2016", false),
+            (
+                Model::SiggaardAndersen1990 as i32,
+                "siggaard-andersen-1990",
+                false
+            ),
         ]
     );
     let severinghaus = &r.models[0];

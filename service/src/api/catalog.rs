@@ -65,6 +65,7 @@ fn wire_model(id: &str) -> WireModel {
         "adair" => WireModel::Adair,
         "siggaard-andersen-1984" => WireModel::SiggaardAndersen1984,
         "dash-2016" => WireModel::Dash2016,
+        "siggaard-andersen-1990" => WireModel::SiggaardAndersen1990,
         _ => WireModel::Unspecified,
     }
 }
@@ -127,6 +128,7 @@ fn describe(info: &ModelInfo) -> ModelDescription {
             .collect(),
         is_default: info.is_default,
         model_version: info.version.to_owned(),
+        source_notes: info.notes.to_owned(),
         hill_presets: if model == WireModel::Hill {
             [
                 (HillPreset::Adult, Hill::ADULT, ADULT_PRESET_SOURCE),

@@ -36,7 +36,10 @@ pub mod units;
 
 // Re-exports: the public paths of the flat layout, kept so that code written
 // against them compiles unchanged.
-pub use curves::{adair, dash, dyshemoglobin, hill, kelman, severinghaus, siggaard_andersen};
+pub use curves::{
+    adair, dash, dyshemoglobin, hill, kelman, severinghaus, siggaard_andersen,
+    siggaard_andersen_1990,
+};
 pub use transport::{content, gas_exchange};
 
 /// The trait, model description and dispatch enum under their earlier path

@@ -8,6 +8,7 @@ use super::hill::Hill;
 use super::kelman::Kelman1966;
 use super::severinghaus::Severinghaus1979;
 use super::siggaard_andersen::SiggaardAndersen1984;
+use super::siggaard_andersen_1990::SiggaardAndersen1990;
 use crate::physiology::conditions::{ConditionSet, Conditions};
 use crate::physiology::error::PhysiologyError;
 
@@ -27,6 +28,8 @@ pub enum Model {
     SiggaardAndersen1984(SiggaardAndersen1984),
     /// Dash, Korman & Bassingthwaighte 2016.
     Dash2016(Dash2016),
+    /// Siggaard-Andersen oxygen status algorithm (1990; equations as in 1993).
+    SiggaardAndersen1990(SiggaardAndersen1990),
 }
 
 /// The service's default model: Severinghaus 1979.
@@ -47,6 +50,7 @@ macro_rules! dispatch {
             Model::Adair($m) => $e,
             Model::SiggaardAndersen1984($m) => $e,
             Model::Dash2016($m) => $e,
+            Model::SiggaardAndersen1990($m) => $e,
         }
     };
 }
@@ -113,21 +117,23 @@ impl Model {
             "adair" => Model::Adair(Adair),
             "siggaard-andersen-1984" => Model::SiggaardAndersen1984(SiggaardAndersen1984),
             "dash-2016" => Model::Dash2016(Dash2016),
+            "siggaard-andersen-1990" => Model::SiggaardAndersen1990(SiggaardAndersen1990),
             _ => return None,
         })
     }
 }
 
-static CATALOG: [&ModelInfo; 6] = [
+static CATALOG: [&ModelInfo; 7] = [
     &super::severinghaus::INFO,
     &super::kelman::INFO,
     &super::hill::INFO,
     &super::adair::INFO,
     &super::siggaard_andersen::INFO,
     &super::dash::INFO,
+    &super::siggaard_andersen_1990::INFO,
 ];
 
-/// Descriptions of all six models (one table, used by the engine and the catalog).
+/// Descriptions of every model, in the order of the contract's `Model` enum (one table, used by the engine and the catalog).
 pub fn catalog() -> &'static [&'static ModelInfo] {
     &CATALOG
 }

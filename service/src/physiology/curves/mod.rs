@@ -6,7 +6,8 @@
 //! - [`prepared`]: a prepared curve under its conditions (carbon monoxide
 //!   through the Haldane relation) and the macro that implements the trait.
 //! - The models: [`severinghaus`], [`kelman`], [`hill`], [`adair`],
-//!   [`siggaard_andersen`], [`dash`]; carbon monoxide and the dyshaemoglobins
+//!   [`siggaard_andersen`] (1984), [`siggaard_andersen_1990`] (the oxygen status
+//!   algorithm), [`dash`]; carbon monoxide and the dyshaemoglobins
 //!   in [`dyshemoglobin`].
 //! - [`dispatch`]: the [`dispatch::Model`] enum over every model, the model
 //!   ids and the catalog table. It imports the models; no model imports it.
@@ -21,3 +22,4 @@ pub mod kelman;
 pub mod prepared;
 pub mod severinghaus;
 pub mod siggaard_andersen;
+pub mod siggaard_andersen_1990;
