@@ -243,7 +243,7 @@ impl RequestReader {
             "pco2",
             QuantityKind::Pressure,
             &limits::PRESSURE,
-            engine_conditions::STANDARD_PCO2_MMHG,
+            model.standard_pco2_mmhg(),
         );
         let temperature = read(
             self,

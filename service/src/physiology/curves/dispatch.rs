@@ -107,6 +107,20 @@ impl Model {
         }
     }
 
+    /// The carbon dioxide tension (mmHg) the model assumes when none is given:
+    /// the oxygen status algorithm's reference 5.33 kPa (39.978 mmHg) for
+    /// `siggaard-andersen-1990`, otherwise the service's standard (see
+    /// [`crate::physiology::conditions::STANDARD_PCO2_MMHG`]).
+    pub fn standard_pco2_mmhg(&self) -> f64 {
+        match self {
+            Model::SiggaardAndersen1990(_) => {
+                super::siggaard_andersen_1990::PCO2_REFERENCE_KPA
+                    / crate::physiology::units::KPA_PER_MMHG
+            }
+            _ => crate::physiology::conditions::STANDARD_PCO2_MMHG,
+        }
+    }
+
     /// The model with the given catalog id, with default parameters (Hill: the
     /// adult preset); `None` for an unknown id.
     pub fn from_id(id: &str) -> Option<Model> {

@@ -27,8 +27,13 @@
 //! doi:10.1134/S0362119720020048.
 //!
 //! MetHb does not bind O2; here it only removes haem from the pool. Its own
-//! allosteric left shift is not modelled by any model (so a given MetHb is reported
-//! as a condition not modelled).
+//! allosteric left shift is modelled only by the oxygen status algorithm
+//! (`siggaard-andersen-1990`, a3 = -0.7 per unit FMetHb); every other model
+//! reports a given MetHb as a condition not modelled.
+//!
+//! This treatment is Eqs. 2-8 of the 1993 paper exactly: sCO = FCOHb/(1 - FMetHb)
+//! is `f` above, sO2CO = sO2 + (1 - sO2)·sCO is `t`, and pO2CO = pO2·sO2CO/(sO2CO -
+//! sCO) is the equivalent tension PO2·t/y.
 
 use super::curve::{logistic, Curve};
 use crate::physiology::error::{require_within, Input, PhysiologyError};
