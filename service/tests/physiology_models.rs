@@ -780,3 +780,34 @@ fn saturation_and_slope_together_match_the_separate_calls() {
         }
     }
 }
+
+// Foetal haemoglobin binds oxygen more tightly than adult haemoglobin (P50
+// 18-20 against about 26.8 mmHg; educational sources, methods.md §4) and
+// methaemoglobin raises the oxygen affinity of the remaining haem (common
+// practice): the oxygen status algorithm honours both, as left shifts.
+#[test]
+fn siggaard_andersen_1990_shifts_left_with_foetal_and_methaemoglobin() {
+    let model = sa1990();
+    let standard = model.p50_mmhg(&Conditions::STANDARD).unwrap();
+    let foetal = model
+        .p50_mmhg(&Conditions {
+            hbf_fraction: Some(1.0),
+            ..Conditions::STANDARD
+        })
+        .unwrap();
+    assert!(
+        (18.0..=21.0).contains(&foetal) && foetal < standard,
+        "{foetal}"
+    );
+    let methb = model
+        .p50_mmhg(&Conditions {
+            methb_fraction: Some(0.05),
+            ..Conditions::STANDARD
+        })
+        .unwrap();
+    assert!(methb < standard, "{methb}");
+    for condition in [Condition::Methb, Condition::Hbf] {
+        assert!(model.info().honoured().contains(condition));
+        assert!(!DEFAULT_MODEL.info().honoured().contains(condition));
+    }
+}

@@ -910,8 +910,32 @@ async fn list_models_example_is_true() {
                     ("conditions.dpg", 1.0, 12.0)
                 ]
             ),
+            (
+                ids(&[
+                    F::Ph,
+                    F::Pco2,
+                    F::Temperature,
+                    F::Dpg,
+                    F::Cohb,
+                    F::Methb,
+                    F::Hbf
+                ]),
+                vec![
+                    ("conditions.ph", 6.8, 7.8),
+                    ("conditions.pco2", 10.0, 100.0),
+                    ("conditions.temperature", 20.0, 43.0),
+                    ("conditions.dpg", 1.0, 12.0),
+                    ("conditions.cohb", 0.0, 0.3),
+                    ("conditions.methb", 0.0, 0.1)
+                ]
+            ),
         ]
     );
+    // Every model publishes its source notes (API.md 7.11).
+    for m in &r.models {
+        assert!(!m.source_notes.is_empty(), "{}", m.model_id);
+    }
+    assert!(r.models[0].source_notes.contains("0.012 at pH 7.0"));
     let kelman = &r.models[1];
     let range = &kelman.validated_ranges[0];
     assert_eq!(range.input, "po2");
