@@ -628,7 +628,7 @@ fn dash_authors_code(po2: f64, ph: f64, pco2: f64, dpg: f64, t: f64) -> (f64, f6
     let dc = pco2 - 40.0;
     let p2 = 26.8 + 1.7 * (4.28e-2 * dc + 3.64e-5 * dc * dc);
     let dd = dpg - 4.65e-3;
-    let p3 = 26.8 + 1.0 * (795.633533 * dd - 19_660.8947 * dd * dd);
+    let p3 = 26.8 + 1.0 * (795.633533 * dd - 19_660.894_7 * dd * dd);
     let dt = t - 37.0;
     let p4 = 26.8 + 0.98 * (1.4945 * dt + 4.335e-2 * dt * dt + 7e-4 * dt.powi(3));
     let p50 = 26.8 * (p1 / 26.8) * (p2 / 26.8) * (p3 / 26.8) * (p4 / 26.8);
