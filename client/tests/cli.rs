@@ -242,7 +242,8 @@ fn shift_p50_temperature_content_gas_exchange_models_health() {
     assert!((ratio - 90.0 / 0.21).abs() < 0.5, "{ratio}");
 
     let models = json_of(&server.oxbind().args(["models", "--json"]).output().unwrap());
-    assert_eq!(models["models"].as_array().unwrap().len(), 6);
+    // Every model of the contract's `Model` enum (seven since issue 11).
+    assert_eq!(models["models"].as_array().unwrap().len(), 7);
     assert!(stdout_of(server.oxbind().arg("models")).contains("severinghaus-1979"));
 
     let health = stdout_of(server.oxbind().arg("health"));
