@@ -487,8 +487,7 @@ fn inverses_reach_the_required_accuracy_over_the_guaranteed_range() {
                 let s = 1.0 / (1.0 + (-z).exp());
                 let p = match model.tension_mmhg(s, c) {
                     Ok(p) => p,
-                    // Kelman refuses saturations below its zero crossing's reach only
-                    // outside its domain; S >= 1e-4 maps inside it.
+                    // Every model inverts every saturation of the guaranteed range.
                     Err(e) => panic!("{} S {s}: {e}", model.info().id),
                 };
                 let target = s.ln() - (-s).ln_1p();
@@ -762,7 +761,7 @@ fn saturation_and_slope_together_match_the_separate_calls() {
                     model.saturation(po2, &conditions),
                     model.hill_slope(po2, &conditions),
                 ) else {
-                    // Outside a model's domain (Kelman below about 4.7 mmHg)
+                    // Outside a model's domain (Kelman above 8949.9 mmHg virtual)
                     // both paths refuse.
                     assert!(together.is_err(), "{id} at {po2}: {together:?}");
                     continue;
