@@ -66,6 +66,51 @@ fn assert_same(what: &str, engine: f64, oracle: f64) {
     );
 }
 
+/// Carbon monoxide by the Haldane equation as Siggaard-Andersen O,
+/// Siggaard-Andersen M, Fogh-Andersen N (Scand J Clin Lab Invest 1993;53 Suppl
+/// 214:113–119, Eqs. 2–8) state it for any curve of combined saturation against
+/// combined tension: sCO = FCOHb/(1 - FMetHb), sO2CO = sO2 + (1 - sO2)·sCO,
+/// pO2CO = pO2·sO2CO/(sO2CO - sCO), sO2CO = curve(pO2CO). Solved here for sO2 by
+/// bisection (the residual falls as sO2 rises); the engine solves it by Newton on
+/// the logit.
+fn haldane_saturation(curve: &dyn Fn(f64) -> f64, po2: f64, cohb: f64, methb: f64) -> f64 {
+    let sco = cohb / (1.0 - methb);
+    let residual = |so2: f64| {
+        let s = so2 + (1.0 - so2) * sco;
+        curve(po2 * s / (s - sco)) - s
+    };
+    let (mut lo, mut hi) = (0.0f64, 1.0f64);
+    // 64 halvings take the bracket below 1e-19.
+    for _ in 0..64 {
+        let mid = 0.5 * (lo + hi);
+        if residual(mid) > 0.0 {
+            lo = mid;
+        } else {
+            hi = mid;
+        }
+    }
+    0.5 * (lo + hi)
+}
+
+/// The engine with carbon monoxide (and methaemoglobin) against
+/// [`haldane_saturation`] over the oracle curve, on the PO2 grid.
+fn assert_carbon_monoxide(model: &Model, base: Conditions, curve: &dyn Fn(f64) -> f64) {
+    for (cohb, methb) in [(0.05, 0.0), (0.15, 0.0), (0.3, 0.0), (0.1, 0.05)] {
+        let c = Conditions {
+            cohb_fraction: Some(cohb),
+            methb_fraction: Some(methb),
+            ..base
+        };
+        for p in po2_grid() {
+            assert_same(
+                &format!("{} COHb {cohb} MetHb {methb} at {p}", model.info().id),
+                model.saturation(p, &c).unwrap(),
+                haldane_saturation(curve, p, cohb, methb),
+            );
+        }
+    }
+}
+
 // ---------------------------------------------------------------------------
 // Severinghaus 1979
 // ---------------------------------------------------------------------------
@@ -92,6 +137,9 @@ fn eq3(p: f64) -> f64 {
 /// small steps (our port of the paper's equation; the engine integrates it in
 /// closed form).
 fn po2_at_37_by_eq3(p: f64, t: f64) -> f64 {
+    if t == 37.0 {
+        return p;
+    }
     let steps = 2000;
     let h = (37.0 - t) / f64::from(steps);
     let mut u = p.ln();
@@ -196,6 +244,15 @@ fn severinghaus_matches_published_code_and_the_printed_corrections() {
     }
     assert_documented("Eq. 2 (S^6/6) against Ellis", worst, 0.7949);
     assert!(severinghaus::NOTES.contains("0.012 at pH 7.0"));
+    // Carbon monoxide, at standard and at shifted conditions.
+    assert_carbon_monoxide(&model, Conditions::STANDARD, &po2so2_severinghaus);
+    let shifted = conditions(|c| {
+        c.ph = Some(7.2);
+        c.base_excess_mmol_per_l = Some(-5.0);
+    });
+    assert_carbon_monoxide(&model, shifted, &|p| {
+        inaba_virtual_po2_saturation(p, 7.2, -5.0, 37.0)
+    });
 }
 
 // ---------------------------------------------------------------------------
@@ -282,6 +339,15 @@ fn kelman_matches_published_code_above_the_join_and_its_branch_below() {
         0.008593,
     );
     assert!(kelman::NOTES.contains("at most 0.0086"));
+    // Carbon monoxide over both pieces: the published code above the join, the
+    // quoted branch below it.
+    assert_carbon_monoxide(&model, Conditions::STANDARD, &|p| {
+        if p >= kelman::JOIN_VIRTUAL_MMHG {
+            co2ntent_kelman(p, 37.0, 7.4, 40.0)
+        } else {
+            kelman_low_branch(p)
+        }
+    });
 }
 
 // ---------------------------------------------------------------------------
@@ -354,6 +420,7 @@ fn hill_matches_published_code_and_its_shift_scheme() {
             );
         }
     }
+    assert_carbon_monoxide(&adult, Conditions::STANDARD, &po2so2_hill);
 }
 
 // ---------------------------------------------------------------------------
@@ -388,6 +455,7 @@ fn adair_matches_keener_and_sneyds_code() {
             keener_sneyd_adair(p),
         );
     }
+    assert_carbon_monoxide(&model, Conditions::STANDARD, &keener_sneyd_adair);
 }
 
 // ---------------------------------------------------------------------------
@@ -501,6 +569,9 @@ fn siggaard_andersen_1984_matches_its_printed_equations_and_the_1993_curve() {
     });
     assert!(worst > 5e-6 && worst < 2e-5, "{worst}");
     assert!(siggaard_andersen::NOTES.contains("0.00002"));
+    assert_carbon_monoxide(&model, Conditions::STANDARD, &|p| {
+        sa1984_abstract(p, 7.4, 0.0, 5.0, 37.0)
+    });
 }
 
 #[test]
@@ -715,4 +786,7 @@ fn dash_matches_the_transcribed_paper_and_documents_the_authors_code() {
         model.saturation(p, &standard).unwrap() - dash_authors_code(p, 7.4, 40.0, 4.65e-3, 37.0).0
     });
     assert_documented("authors' code at standard conditions", worst, 0.002073);
+    assert_carbon_monoxide(&model, Conditions::STANDARD, &|p| {
+        chatzinikolaou_dash(p, 7.4, 40.0, 4.65e-3, 37.0).0
+    });
 }
