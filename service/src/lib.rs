@@ -6,6 +6,8 @@
 //!   exchange. No gRPC types.
 //! - [`api`]: one thin adapter per gRPC service: proto to validated domain
 //!   input, to physiology, and back.
+//! - [`http`]: the doors beside gRPC on the same listener (the FHIR R4
+//!   operation), calling the same API functions.
 //! - [`server`], [`config`], [`layers`], [`telemetry`], [`shutdown`]:
 //!   start-up, per-call layers, limits, telemetry and shutdown.
 //!
@@ -14,6 +16,7 @@
 
 pub mod api;
 pub mod config;
+pub mod http;
 pub mod layers;
 pub mod physiology;
 pub mod server;

@@ -57,7 +57,7 @@ impl ModelCatalogService for CatalogApi {
 }
 
 /// The wire enum value of a catalog model id.
-fn wire_model(id: &str) -> WireModel {
+pub fn wire_model(id: &str) -> WireModel {
     match id {
         "severinghaus-1979" => WireModel::Severinghaus1979,
         "kelman-1966" => WireModel::Kelman1966,
