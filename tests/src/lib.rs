@@ -1,6 +1,8 @@
 //! Test harness: start a real Oxbind server in-process on `127.0.0.1:0`, talk
 //! to it through the client crate, and stop it with a oneshot.
 
+pub mod fhir;
+
 use std::net::SocketAddr;
 
 use oxbind_service::Config;

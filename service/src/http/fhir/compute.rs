@@ -22,6 +22,7 @@ use oxbind_proto::v1::{
     BloodConditions, BloodSample, CorrectForTemperatureRequest, EstimateP50Request,
     GasExchangeRequest, MeasuredPair, OxygenContentRequest, Provenance, Quantity as WireQuantity,
     SaturationFromTensionRequest, SaturationKind, ShiftFactorsRequest, UnitSystem, Warning,
+    WarningCode,
 };
 use prost_types::Timestamp;
 
@@ -73,13 +74,26 @@ pub struct Derived {
     pub call: usize,
 }
 
+/// One warning of a call, with the panel Observation its field came from.
+#[derive(Debug, Clone)]
+pub struct CallWarning {
+    /// The warning as the API raised it.
+    pub warning: Warning,
+    /// The input it concerns, when its field is one.
+    pub input: Option<usize>,
+}
+
 /// One API call's warnings and the inputs it read.
 #[derive(Debug, Clone, Default)]
 pub struct Call {
     /// The response's warnings.
-    pub warnings: Vec<Warning>,
+    pub warnings: Vec<CallWarning>,
     /// Panel Observations the call read.
     pub inputs: Vec<usize>,
+    /// Inputs the model did not take into account
+    /// (`WARNING_CODE_CONDITION_NOT_MODELLED`): not among what a value was
+    /// derived from.
+    pub unmodelled: Vec<usize>,
 }
 
 /// Everything the panel allowed.
@@ -441,11 +455,23 @@ impl Work<'_> {
         ("the inputs".to_owned(), "Parameters".to_owned())
     }
 
+    /// The panel Observation a request field path came from.
+    fn input_at(&self, field: &str, map: &FieldMap) -> Option<usize> {
+        map.iter()
+            .filter(|(prefix, input, _)| {
+                self.index(*input).is_some()
+                    && (field == prefix || field.starts_with(&format!("{prefix}.")))
+            })
+            .max_by_key(|(prefix, _, _)| prefix.len())
+            .and_then(|(_, input, _)| self.index(*input))
+    }
+
     fn call(
         &mut self,
         warnings: &[Warning],
         provenance: Option<&Provenance>,
         inputs: Vec<usize>,
+        map: &FieldMap,
     ) -> usize {
         observe::result(provenance, warnings);
         if let Some(time) = provenance.and_then(|p| p.compute_time) {
@@ -457,9 +483,22 @@ impl Work<'_> {
                 self.out.compute_time = Some(time);
             }
         }
+        let warnings: Vec<CallWarning> = warnings
+            .iter()
+            .map(|w| CallWarning {
+                warning: w.clone(),
+                input: self.input_at(&w.field, map),
+            })
+            .collect();
+        let unmodelled = warnings
+            .iter()
+            .filter(|w| w.warning.code == WarningCode::ConditionNotModelled as i32)
+            .filter_map(|w| w.input)
+            .collect();
         self.out.calls.push(Call {
-            warnings: warnings.to_vec(),
+            warnings,
             inputs,
+            unmodelled,
         });
         self.out.calls.len() - 1
     }
@@ -469,10 +508,12 @@ impl Work<'_> {
         output: Output,
         value: f64,
         unit: &str,
-        from: Vec<usize>,
+        mut from: Vec<usize>,
         method: &str,
         call: usize,
     ) {
+        let unmodelled = &self.out.calls[call].unmodelled;
+        from.retain(|i| !unmodelled.contains(i));
         self.out.derived.push(Derived {
             output,
             value,
@@ -532,6 +573,7 @@ impl Work<'_> {
                     &response.warnings,
                     response.provenance.as_ref(),
                     self.present(&inputs),
+                    &map,
                 );
                 let method = method_text(
                     "Saturation calculated from PO2",
@@ -578,7 +620,7 @@ impl Work<'_> {
             }
             return false;
         }
-        let mut map = vec![
+        let map = vec![
             ("pairs[0].po2".to_owned(), site.po2(), Holds::Quantity),
             (
                 "pairs[0].saturation_fraction".to_owned(),
@@ -616,6 +658,7 @@ impl Work<'_> {
                     &response.warnings,
                     response.provenance.as_ref(),
                     self.present(&inputs),
+                    &map,
                 );
                 let method = method_text(P50_ESTIMATION_METHOD, response.provenance.as_ref());
                 let (at, standard) = match site {
@@ -641,7 +684,6 @@ impl Work<'_> {
                 true
             }
             Err(refusal) => {
-                map.truncate(4);
                 self.refused(&refusal, &map);
                 true
             }
@@ -665,6 +707,7 @@ impl Work<'_> {
                     &response.warnings,
                     response.provenance.as_ref(),
                     self.present(&inputs),
+                    &map,
                 );
                 let method = method_text(
                     "P50 of the dissociation model at the sample's pH, PCO2, base excess and \
@@ -762,7 +805,7 @@ haemoglobin fractions",
         all.push(Input::CardiacOutput);
         match compute_oxygen_content(&request) {
             Ok(r) => {
-                let call = self.call(&r.warnings, r.provenance.as_ref(), self.present(&all));
+                let call = self.call(&r.warnings, r.provenance.as_ref(), self.present(&all), &map);
                 let method = method_text("Oxygen content and transport", r.provenance.as_ref());
                 let mut venous_side = venous_inputs.clone();
                 venous_side.push(Input::Hemoglobin);
@@ -886,7 +929,7 @@ haemoglobin fractions",
         all.extend(&shunt_inputs);
         match compute_gas_exchange(&request) {
             Ok(r) => {
-                let call = self.call(&r.warnings, r.provenance.as_ref(), self.present(&all));
+                let call = self.call(&r.warnings, r.provenance.as_ref(), self.present(&all), &map);
                 let method = method_text("Gas exchange", r.provenance.as_ref());
                 let pressure = units::output_unit(QuantityKind::Pressure, self.system);
                 self.quantity_out(
@@ -983,7 +1026,12 @@ haemoglobin fractions",
         ];
         match compute_correct_for_temperature(&request) {
             Ok(r) => {
-                let call = self.call(&r.warnings, r.provenance.as_ref(), self.present(&inputs));
+                let call = self.call(
+                    &r.warnings,
+                    r.provenance.as_ref(),
+                    self.present(&inputs),
+                    &map,
+                );
                 let method = method_text(
                     "Correction from the analyser's 37 Cel to body temperature",
                     r.provenance.as_ref(),

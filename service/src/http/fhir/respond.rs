@@ -193,7 +193,7 @@ fn used_inputs(computed: &Computed) -> Vec<usize> {
 }
 
 /// Each call's warnings, pointing at the derived Observations of that call
-/// (at its inputs when it derived none).
+/// (at the answer as a whole when it derived none).
 fn warnings(panel: &Panel, computed: &Computed, positions: &[usize]) -> Vec<Issue> {
     let mut issues = Vec::new();
     for (call_index, call) in computed.calls.iter().enumerate() {
@@ -208,24 +208,34 @@ fn warnings(panel: &Panel, computed: &Computed, positions: &[usize]) -> Vec<Issu
             .map(|(_, &p)| format!("Parameters.parameter[{p}].resource"))
             .collect();
         if expression.is_empty() {
-            expression = call
-                .inputs
-                .iter()
-                .map(|&i| panel.observations[i].expression.clone())
-                .collect();
+            expression = vec!["Parameters".to_owned()];
         }
-        for warning in &call.warnings {
-            let code = WarningCode::try_from(warning.code)
+        for found in &call.warnings {
+            let code = WarningCode::try_from(found.warning.code)
                 .unwrap_or(WarningCode::Unspecified)
                 .as_str_name();
-            let mut found = issue(
+            // The expressions name the answer's derived Observations; the
+            // input a warning is about is named by its id.
+            let diagnostics = match found.input {
+                Some(i) => {
+                    let input = &panel.observations[i];
+                    format!(
+                        "{} (Observation/{}): {}",
+                        input.input.label(),
+                        input.id,
+                        found.warning.message
+                    )
+                }
+                None => found.warning.message.clone(),
+            };
+            let mut warning = issue(
                 severity::WARNING,
                 issue_type::INFORMATIONAL,
-                warning.message.clone(),
+                diagnostics,
                 expression.clone(),
             );
-            found.details = Some(CodeableConcept::text(code));
-            issues.push(found);
+            warning.details = Some(CodeableConcept::text(code));
+            issues.push(warning);
         }
     }
     issues
