@@ -668,7 +668,8 @@ async fn batch_tension_from_saturation_example_is_true() {
     };
     assert_eq!(status.code, 3);
     let saturation = "requests[1].saturation_fraction must lie in [0.000001, 0.999999]: PO2 is zero at \
-saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6";
+saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6 \
+(this field takes a fraction between 0 and 1; send per cent divided by 100)";
     assert_eq!(status.message, saturation);
     let (violations, info) = details(&status.details);
     let violations: Vec<(&str, &str, &str)> = violations
@@ -964,6 +965,15 @@ model. Pass every warning on with the value it concerns."
                 "PRESSURE_OUT_OF_RANGE"
             ),
             (
+                "conditions_pco2",
+                0.001,
+                true,
+                760.0,
+                true,
+                "mm[Hg]",
+                "PCO2_OUT_OF_RANGE"
+            ),
+            (
                 "barometric_pressure",
                 150.0,
                 true,
@@ -1147,7 +1157,6 @@ model. Pass every warning on with the value it concerns."
     let mut ph = conditions_paths("ph", true);
     ph.push("ph".to_owned());
     let mut pressure = vec!["po2".to_owned(), "pco2".to_owned()];
-    pressure.extend(conditions_paths("pco2", true));
     pressure.extend(
         [
             "pao2",
@@ -1189,6 +1198,7 @@ model. Pass every warning on with the value it concerns."
     let expected_fields: Vec<(&str, Vec<String>)> = vec![
         ("ph", ph),
         ("pressure", pressure),
+        ("conditions_pco2", conditions_paths("pco2", true)),
         ("barometric_pressure", owned(&["barometric_pressure"])),
         ("temperature", temperature),
         (
