@@ -522,7 +522,7 @@ pub fn compute_sample_curve(
         reader.refuse(Violation::other(
             &root.field("po2_max"),
             super::status::REASON_INCONSISTENT,
-            "po2_max must be greater than po2_min",
+            "must be greater than po2_min",
         ));
     }
     let count_path = root.field("point_count");

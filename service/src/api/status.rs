@@ -188,13 +188,22 @@ impl Violation {
                     field,
                 };
             }
-            PhysiologyError::OutsideModelDomain { limit, model, .. } => (
-                REASON_MODEL_DOMAIN,
-                vec![
-                    ("model_id".to_owned(), (*model).to_owned()),
-                    ("limit".to_owned(), limit.to_string()),
-                ],
-            ),
+            PhysiologyError::OutsideModelDomain { limit, model, .. } => {
+                // The limit is model-specific (Kelman's is a virtual PO2),
+                // so it is stated, readably, without a unit.
+                return Self {
+                    description: format!(
+                        "{field} lies outside the domain where the equation of model {model} is defined (limit {})",
+                        readable(*limit)
+                    ),
+                    reason: REASON_MODEL_DOMAIN,
+                    metadata: vec![
+                        ("model_id".to_owned(), (*model).to_owned()),
+                        ("limit".to_owned(), limit.to_string()),
+                    ],
+                    field,
+                };
+            }
             PhysiologyError::NotInformative { .. } => (REASON_NOT_INFORMATIVE, Vec::new()),
             PhysiologyError::Inconsistent { .. } => (REASON_INCONSISTENT, Vec::new()),
         };

@@ -110,7 +110,48 @@ impl FieldNames {
             },
             None => description.to_owned(),
         };
-        model_flags(&text)
+        model_flags(&self.rename_identifiers(&text))
+    }
+
+    /// Every other field path the text mentions as a whole word (one that
+    /// looks like a contract identifier, with `_`, `.` or `[`), restated as
+    /// the user's name: `po2_max must be greater than po2_min` ->
+    /// `--po2-max must be greater than --po2-min`.
+    fn rename_identifiers(&self, text: &str) -> String {
+        let mut names: Vec<&(String, String)> = self
+            .names
+            .iter()
+            .filter(|(p, _)| p.contains(['_', '.', '[']))
+            .collect();
+        names.sort_by_key(|(p, _)| std::cmp::Reverse(p.len()));
+        let mut out = text.to_owned();
+        for (path, name) in names {
+            let mut result = String::with_capacity(out.len());
+            let mut rest = out.as_str();
+            while let Some(at) = rest.find(path.as_str()) {
+                let before = rest[..at].chars().next_back();
+                let mut following = rest[at + path.len()..].chars();
+                let after = following.next();
+                let after_next = following.next();
+                let joined_before =
+                    before.is_some_and(|c| c.is_ascii_alphanumeric() || "_.-[".contains(c));
+                // A following `.` joins only when a path goes on after it
+                // (`po2.value`), not at the end of a sentence.
+                let joined_after = after.is_some_and(|c| c.is_ascii_alphanumeric() || c == '_')
+                    || (after == Some('.')
+                        && after_next.is_some_and(|c| c.is_ascii_alphanumeric()));
+                result.push_str(&rest[..at]);
+                if joined_before || joined_after {
+                    result.push_str(path);
+                } else {
+                    result.push_str(name);
+                }
+                rest = &rest[at + path.len()..];
+            }
+            result.push_str(rest);
+            out = result;
+        }
+        out
     }
 }
 
@@ -178,6 +219,17 @@ mod tests {
                 "hill: Hill parameters are read only with MODEL_HILL"
             ),
             "--hill-p50/--hill-n/--hill-preset: Hill parameters are read only with --model hill"
+        );
+    }
+
+    #[test]
+    fn other_fields_in_a_message_are_named_too() {
+        let names = FieldNames::new()
+            .with("po2_min", "--po2-min")
+            .with("po2_max", "--po2-max");
+        assert_eq!(
+            names.restate("po2_max", "po2_max: po2_max must be greater than po2_min"),
+            "--po2-max: --po2-max must be greater than --po2-min"
         );
     }
 

@@ -33,6 +33,13 @@ bare number is the fraction itself, 0 to 1, as in the contract: write per cent w
 12%`); a bare number above 1 is refused with that spelling. The same rule holds for CSV cells in \
 `oxbind batch`.";
 
+/// The heading of the flags every command takes.
+const GLOBAL: &str = "Global options";
+
+/// What each subcommand's help says first.
+const SUBCOMMAND_HELP: &str =
+    "Units (a bare fraction is the fraction; per cent takes `%`) and exit statuses: see `oxbind --help`.";
+
 /// Command line for the Oxbind oxygen-dissociation service.
 ///
 /// Results support, and never replace, measured co-oximetry and the
@@ -42,31 +49,32 @@ bare number is the fraction itself, 0 to 1, as in the contract: write per cent w
 #[command(name = "oxbind", version, before_help = UNITS_HELP, after_help = failure::EXIT_HELP)]
 pub(crate) struct Cli {
     /// Server address: `http://HOST:PORT`, or `https://HOST:PORT` for TLS.
-    #[arg(long, global = true, env = "OXBIND_SERVER", default_value = DEFAULT_SERVER)]
+    #[arg(long, global = true, help_heading = GLOBAL, env = "OXBIND_SERVER", default_value = DEFAULT_SERVER)]
     server: String,
 
     /// Units of the answers (the server's default is conventional).
-    #[arg(long, global = true, value_enum)]
+    #[arg(long, global = true, help_heading = GLOBAL, value_enum)]
     unit_system: Option<UnitSystemArg>,
 
     /// Dissociation model (the server's default is severinghaus-1979).
-    #[arg(long, global = true, value_enum)]
+    #[arg(long, global = true, help_heading = GLOBAL, value_enum)]
     model: Option<ModelArg>,
 
     /// Print protobuf JSON (lowerCamelCase names, enums as names) instead of
     /// a table; a refusal is then one JSON object on standard error, with
     /// the contract's field paths.
-    #[arg(long, global = true)]
+    #[arg(long, global = true, help_heading = GLOBAL)]
     json: bool,
 
     /// PEM bundle of CA certificates to trust (turns on TLS).
-    #[arg(long, global = true, env = "OXBIND_CA_CERT", value_name = "FILE")]
+    #[arg(long, global = true, help_heading = GLOBAL, env = "OXBIND_CA_CERT", value_name = "FILE")]
     ca_cert: Option<PathBuf>,
 
     /// Client certificate (PEM) for mutual TLS; needs --client-key.
     #[arg(
         long,
         global = true,
+        help_heading = GLOBAL,
         env = "OXBIND_CLIENT_CERT",
         value_name = "FILE",
         requires = "client_key"
@@ -77,6 +85,7 @@ pub(crate) struct Cli {
     #[arg(
         long,
         global = true,
+        help_heading = GLOBAL,
         env = "OXBIND_CLIENT_KEY",
         value_name = "FILE",
         requires = "client_cert"
@@ -84,7 +93,7 @@ pub(crate) struct Cli {
     client_key: Option<PathBuf>,
 
     /// Deadline of each call: `10s`, `1500ms`, `1m`; a bare number is seconds.
-    #[arg(long, global = true, default_value = "10s", value_parser = model_arg::duration, value_name = "DURATION")]
+    #[arg(long, global = true, help_heading = GLOBAL, default_value = "10s", value_parser = model_arg::duration, value_name = "DURATION")]
     timeout: Duration,
 
     #[command(subcommand)]
@@ -286,7 +295,10 @@ async fn main() {
     // Negative numbers (a base excess of -21, a refused PO2 of -5) are
     // values, not flags, in every subcommand.
     let matches = Cli::command()
-        .mut_subcommands(|sub| sub.allow_negative_numbers(true))
+        .mut_subcommands(|sub| {
+            sub.allow_negative_numbers(true)
+                .before_help(SUBCOMMAND_HELP)
+        })
         .get_matches();
     let cli = match Cli::from_arg_matches(&matches) {
         Ok(cli) => cli,
