@@ -2,7 +2,7 @@
 //! number the document prints in a response is asserted here to its printed
 //! precision, so the document stays true to the service.
 //!
-//! The scenario (Larkspur Valley General Hospital and its patients) is
+//! The scenario (Larchmere Valley Infirmary and its patients) is
 //! fictional. The expected values are outputs of the service itself, recorded
 //! when the document was written (derived from the engine's equations; the
 //! equations' own checks against published values live in the other
@@ -20,6 +20,7 @@ use oxbind_client::v1::{
 use oxbind_client::v1::{
     saturation_from_tension_result, tension_from_saturation_result, HillPreset, Provenance,
     ProvenancePlacement, Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
+    WarningSeverity,
 };
 use oxbind_tests::{q, TestServer};
 use prost::Message;
@@ -240,12 +241,15 @@ fn model_of(provenance: &Option<Provenance>, id: &str, version: &str, inside: bo
     assert!(!provenance.build_commit.is_empty());
 }
 
-fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str)]) {
-    let got: Vec<(i32, &str)> = warnings
+fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str, WarningSeverity)]) {
+    let got: Vec<(i32, &str, i32)> = warnings
         .iter()
-        .map(|w| (w.code, w.field.as_str()))
+        .map(|w| (w.code, w.field.as_str(), w.severity))
         .collect();
-    let want: Vec<(i32, &str)> = expected.iter().map(|(c, f)| (*c as i32, *f)).collect();
+    let want: Vec<(i32, &str, i32)> = expected
+        .iter()
+        .map(|(c, f, s)| (*c as i32, *f, *s as i32))
+        .collect();
     assert_eq!(got, want);
 }
 
@@ -318,7 +322,11 @@ async fn saturation_from_tension_example_is_true() {
     );
     warnings_are(
         &r.warnings,
-        &[(WarningCode::ConditionNotModelled, "conditions.pco2")],
+        &[(
+            WarningCode::ConditionNotModelled,
+            "conditions.pco2",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -363,7 +371,11 @@ async fn tension_from_saturation_examples_are_true() {
     quantity(&plateau.po2_change_per_percent, "26.132", "mm[Hg]/%");
     warnings_are(
         &plateau.warnings,
-        &[(WarningCode::PlateauPoorlyDetermined, "saturation_fraction")],
+        &[(
+            WarningCode::PlateauPoorlyDetermined,
+            "saturation_fraction",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -520,7 +532,11 @@ async fn estimate_p50_example_is_true() {
     model_of(&o.provenance, "severinghaus-1979", "1.0.0", false);
     warnings_are(
         &o.warnings,
-        &[(WarningCode::OutsideValidatedRange, "pairs[0].conditions.ph")],
+        &[(
+            WarningCode::OutsideValidatedRange,
+            "pairs[0].conditions.ph",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -748,7 +764,11 @@ async fn oxygen_content_example_is_true() {
     inputs_used(&w.provenance, &expected_inputs);
     warnings_are(
         &w.warnings,
-        &[(WarningCode::ConditionNotModelled, "arterial.conditions")],
+        &[(
+            WarningCode::ConditionNotModelled,
+            "arterial.conditions",
+            WarningSeverity::Informational,
+        )],
     );
     assert_eq!(
         w.warnings[0].message,

@@ -42,6 +42,44 @@ pub const REASON_BATCH_TOO_LARGE: &str = "BATCH_TOO_LARGE";
 /// ErrorInfo reason: the engine refused a value outside its own range.
 pub const REASON_OUT_OF_RANGE: &str = "VALUE_OUT_OF_RANGE";
 
+/// Every gRPC status code a call to this server can end with, and when.
+///
+/// Only INVALID_ARGUMENT is built here; the others come from the per-call
+/// layer (RESOURCE_EXHAUSTED for the call limit, DEADLINE_EXCEEDED), from
+/// tonic (UNIMPLEMENTED, RESOURCE_EXHAUSTED for message sizes, INTERNAL),
+/// from the transport (UNAVAILABLE) or from the caller (CANCELLED). proto/
+/// API.md section 6 lists exactly these codes, and
+/// `tests/tests/api_doc_tables.rs` keeps the two equal and provokes each
+/// that a test can.
+pub const STATUS_CODES: [(Code, &str); 8] = [
+    (Code::Ok, "the call computed"),
+    (
+        Code::InvalidArgument,
+        "the input was refused (google.rpc.BadRequest names each field)",
+    ),
+    (
+        Code::ResourceExhausted,
+        "the server is at --max-concurrent-calls, or a message exceeds --max-decoded-message-bytes or --max-encoded-message-bytes",
+    ),
+    (
+        Code::DeadlineExceeded,
+        "the call outlived --call-timeout, or the caller's own shorter deadline",
+    ),
+    (
+        Code::Unavailable,
+        "the server cannot be reached, or is draining after SIGTERM or SIGINT",
+    ),
+    (
+        Code::Unimplemented,
+        "the method is not one of the v1 RPCs (a misspelt path)",
+    ),
+    (
+        Code::Internal,
+        "a fault in the server itself; the message is fixed and carries no detail",
+    ),
+    (Code::Cancelled, "the caller cancelled the call"),
+];
+
 /// One refused field.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Violation {
