@@ -68,7 +68,7 @@ fn command_of(cell: &str) -> String {
 
 /// The flags a cell names.
 fn flags_in(cell: &str) -> Vec<String> {
-    cell.split(|c: char| c == '`' || c == ' ' || c == ',' || c == '(' || c == ')')
+    cell.split(['`', ' ', ',', '(', ')'])
         .filter(|w| w.starts_with("--"))
         .map(str::to_owned)
         .collect()

@@ -54,6 +54,9 @@ fn limit_for<'a>(limits: &'a [InputLimit], field: &str) -> &'a InputLimit {
         .unwrap_or_else(|| panic!("no hard limit lists {field}"))
 }
 
+/// Blood conditions with one condition set to a value.
+type ConditionsOf = Box<dyn Fn(f64) -> BloodConditions>;
+
 fn pco2(mmhg: f64) -> BloodConditions {
     BloodConditions {
         pco2: q(mmhg, "mm[Hg]"),
@@ -111,7 +114,7 @@ async fn every_condition_limit_edge_is_accepted() {
     let server = TestServer::start().await;
     let limits = limits(server.channel().await).await;
     let mut client = DissociationServiceClient::new(server.channel().await);
-    let cases: Vec<(&str, Box<dyn Fn(f64) -> BloodConditions>)> = vec![
+    let cases: Vec<(&str, ConditionsOf)> = vec![
         (
             "conditions.ph",
             Box::new(|v| BloodConditions {
