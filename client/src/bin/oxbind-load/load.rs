@@ -183,15 +183,34 @@ struct ServerUsage {
     vm_hwm_kib: Option<u64>,
 }
 
-/// CPU time of every thread of `pid` so far, from `/proc/PID/task/*/schedstat`
-/// (its first field is the time on a CPU, in nanoseconds).
-fn cpu_time(pid: u32) -> Option<Duration> {
-    let mut total = 0u64;
+/// CPU time of each thread of `pid` so far, by thread id, from
+/// `/proc/PID/task/*/schedstat` (its first field is the time on a CPU, in
+/// nanoseconds). A thread that ends between listing and reading is left out.
+fn thread_cpu_times(pid: u32) -> Option<BTreeMap<String, u64>> {
+    let mut times = BTreeMap::new();
     for task in std::fs::read_dir(format!("/proc/{pid}/task")).ok()? {
-        let stat = std::fs::read_to_string(task.ok()?.path().join("schedstat")).ok()?;
-        total += stat.split_whitespace().next()?.parse::<u64>().ok()?;
+        let Ok(task) = task else { continue };
+        let Ok(stat) = std::fs::read_to_string(task.path().join("schedstat")) else {
+            continue;
+        };
+        let Some(nanos) = stat.split_whitespace().next().and_then(|n| n.parse().ok()) else {
+            continue;
+        };
+        times.insert(task.file_name().to_string_lossy().into_owned(), nanos);
     }
-    Some(Duration::from_nanos(total))
+    Some(times)
+}
+
+/// CPU time the threads of `pid` spent between two readings: each thread
+/// alive at the end counts from its first reading (or from its start, if it
+/// began in between). A thread that ended in between is left out, so the
+/// figure can only undercount, never go negative.
+fn cpu_between(before: &BTreeMap<String, u64>, after: &BTreeMap<String, u64>) -> Duration {
+    let nanos = after
+        .iter()
+        .map(|(tid, end)| end.saturating_sub(before.get(tid).copied().unwrap_or(0)))
+        .sum();
+    Duration::from_nanos(nanos)
 }
 
 /// A `VmRSS:`-style line of `/proc/PID/status`, in KiB.
@@ -409,9 +428,9 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
     let cpu_at_start = args.server_pid.map(|pid| {
         tokio::spawn(async move {
             tokio::time::sleep_until(measure_from.into()).await;
-            let before = cpu_time(pid)?;
+            let before = thread_cpu_times(pid)?;
             tokio::time::sleep_until(measure_until.into()).await;
-            Some(cpu_time(pid)?.saturating_sub(before))
+            Some(cpu_between(&before, &thread_cpu_times(pid)?))
         })
     });
     let mut tasks = Vec::with_capacity(args.in_flight as usize);
