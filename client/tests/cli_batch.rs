@@ -297,3 +297,25 @@ fn a_saturation_column_asks_for_tensions() {
     );
     assert_eq!(code, Some(2), "{stderr}");
 }
+
+#[test]
+fn a_batch_with_the_hill_model_names_its_parameters() {
+    let server = Server::start();
+    let dir = tempfile::tempdir().unwrap();
+    std::fs::write(dir.path().join("rows.csv"), "po2\n40\n").unwrap();
+    let (code, stderr) = failure_of(server.oxbind().current_dir(dir.path()).args([
+        "--model", "hill", "batch", "--input", "rows.csv", "--output", "-",
+    ]));
+    assert_eq!(code, Some(2), "{stderr}");
+    assert!(stderr.contains("--hill-preset"), "{stderr}");
+    // With the fetal preset named, its P50 (19.5 mm[Hg], ListModels) gives
+    // half saturation (the definition of P50).
+    let (code, csv, stderr) = run_batch(
+        &server,
+        dir.path(),
+        "po2\n19.5\n",
+        &["--model", "hill", "--hill-preset", "fetal"],
+    );
+    assert_eq!(code, Some(0), "{stderr}");
+    assert!((csv.number(0, "saturation_fraction") - 0.5).abs() < 1e-4);
+}

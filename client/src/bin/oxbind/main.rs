@@ -223,6 +223,13 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
             "--hill-p50, --hill-n and --hill-preset are used only with --model hill".into(),
         ));
     }
+    if let Command::Batch(a) = &cli.command {
+        if cli.model == Some(ModelArg::Hill) && !a.hill.is_given() {
+            return Err(Failure::Usage(
+                "--model hill with batch needs --hill-preset, or --hill-p50 and --hill-n: the output has no column to say which parameters were used".into(),
+            ));
+        }
+    }
     let unused = |flag: &str, command: &str| {
         Err(Failure::Usage(format!(
             "{flag} has no effect on `oxbind {command}`; leave it out"
