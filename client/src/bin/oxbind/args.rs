@@ -221,6 +221,7 @@ impl BloodArgs {
 
 /// Blood conditions as flags; each absent flag means the standard value.
 #[derive(Debug, Clone, Default, Args)]
+#[command(next_help_heading = "Blood conditions (each absent flag: the standard value)")]
 pub(crate) struct ConditionArgs {
     #[command(flatten)]
     pub(crate) blood: BloodArgs,
@@ -254,6 +255,7 @@ impl ConditionArgs {
 /// n together; with none, the server uses the adult preset (and the answer
 /// says so).
 #[derive(Debug, Clone, Default, Args)]
+#[command(next_help_heading = "Hill parameters (only with --model hill)")]
 pub(crate) struct HillArgs {
     /// Hill P50 at standard conditions; a bare number is mm[Hg]. Needs --hill-n.
     #[arg(long, value_parser = pressure, value_name = "PRESSURE", requires = "hill_n")]
@@ -294,6 +296,9 @@ impl HillArgs {
 /// The arterial sample of `content` and `gas-exchange`: a measured
 /// saturation, or the conditions to calculate it from the PO2.
 #[derive(Debug, Clone, Default, Args)]
+#[command(
+    next_help_heading = "Arterial sample (the condition flags serve a calculated saturation)"
+)]
 pub(crate) struct ArterialArgs {
     /// Measured arterial saturation (`0.97`, or `97%`). Absent: calculated
     /// from the arterial PO2 through --model and the condition flags, and
@@ -348,6 +353,7 @@ impl ArterialArgs {
 
 /// The mixed (or central) venous sample of `content` and `gas-exchange`.
 #[derive(Debug, Clone, Default, Args)]
+#[command(next_help_heading = "Mixed venous sample")]
 pub(crate) struct VenousArgs {
     /// Venous PO2; a bare number is mm[Hg]. Needed for any venous value.
     #[arg(long, value_parser = pressure, value_name = "PRESSURE")]

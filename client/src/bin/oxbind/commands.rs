@@ -146,10 +146,6 @@ pub(crate) enum SpacingArg {
 /// Flags of `oxbind curve`.
 #[derive(Debug, Clone, Args)]
 pub(crate) struct CurveArgs {
-    #[command(flatten)]
-    pub(crate) conditions: ConditionArgs,
-    #[command(flatten)]
-    pub(crate) hill: HillArgs,
     /// Lowest PO2; a bare number is mm[Hg] (server default when absent).
     #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
     pub(crate) po2_min: Option<Quantity>,
@@ -168,6 +164,10 @@ pub(crate) struct CurveArgs {
     /// Write an SVG plot of the curves to this file.
     #[arg(long, value_name = "FILE")]
     pub(crate) svg: Option<PathBuf>,
+    #[command(flatten)]
+    pub(crate) conditions: ConditionArgs,
+    #[command(flatten)]
+    pub(crate) hill: HillArgs,
 }
 
 /// How `curve` names its fields. The curve of the given conditions is the
@@ -560,16 +560,16 @@ pub(crate) struct ContentArgs {
     /// Arterial PO2; a bare number is mm[Hg].
     #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
     pao2: Quantity,
-    #[command(flatten)]
-    arterial: ArterialArgs,
-    #[command(flatten)]
-    venous: VenousArgs,
     /// Cardiac output; a bare number is L/min.
     #[arg(long, value_parser = args::blood_flow, value_name = "FLOW")]
     cardiac_output: Option<Quantity>,
     /// Oxygen bound per gram of haemoglobin, mL/g (server default when absent).
     #[arg(long)]
     hufner: Option<f64>,
+    #[command(flatten)]
+    arterial: ArterialArgs,
+    #[command(flatten)]
+    venous: VenousArgs,
     #[command(flatten)]
     pub(crate) hill: HillArgs,
 }
