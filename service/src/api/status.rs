@@ -461,6 +461,17 @@ mod tests {
             min: f64::MIN_POSITIVE,
             max: f64::INFINITY,
         };
+        let domain = PhysiologyError::OutsideModelDomain {
+            input: Input::Po2,
+            value: 3.0,
+            limit: 4.661_189_645_824_274,
+            model: "kelman-1966",
+        };
+        let v = Violation::from_physiology_at("po2.value".to_owned(), &domain);
+        assert_eq!(
+            v.description,
+            "po2.value lies outside the domain where the equation of model kelman-1966 is defined (limit 4.66119)"
+        );
         let v = Violation::from_physiology_at("spo2_fraction".to_owned(), &open);
         assert_eq!(
             v.description,
