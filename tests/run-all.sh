@@ -1,9 +1,9 @@
 #!/usr/bin/env bash
-# Runs every check the project has, on a fresh machine with only the Rust
-# toolchain and Python 3: formatting, clippy, all Rust tests, buf lint of the
-# contract, buf breaking against the previous commit, and schema validation of
-# every Kubernetes manifest. Python tools go into a virtual environment made
-# here.
+# Runs every check the project has, on a fresh machine with the Rust
+# toolchains (stable and nightly, the latter for the fuzz step), Python 3 and
+# Node: formatting, clippy, all Rust tests, buf lint of the contract, buf
+# breaking against the previous commit, and schema validation of every
+# Kubernetes manifest. Python tools go into a virtual environment made here.
 set -euo pipefail
 
 root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"

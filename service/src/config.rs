@@ -239,11 +239,61 @@ impl Config {
                 ) {
                     error.exit();
                 }
-                let _ = error.print();
+                match from_environment(&error) {
+                    Some(message) => eprintln!("error: {message}"),
+                    None => {
+                        let _ = error.print();
+                    }
+                }
                 std::process::exit(EXIT_CONFIG_INVALID);
             }
         }
     }
+}
+
+/// When `error` is about a value that came from an `OXBIND_*` environment
+/// variable rather than from the command line, the message naming that
+/// variable (clap's own names the flag, which nobody typed).
+fn from_environment(error: &clap::Error) -> Option<String> {
+    use clap::{
+        error::{ContextKind, ContextValue},
+        CommandFactory,
+    };
+    let Some(ContextValue::String(arg)) = error.get(ContextKind::InvalidArg) else {
+        return None;
+    };
+    // `--listen <ADDR>` -> `listen`.
+    let long = arg.trim_start_matches("--").split(' ').next()?;
+    let command = Config::command();
+    let flag = command
+        .get_arguments()
+        .find(|a| a.get_long() == Some(long))?;
+    let variable = flag.get_env()?.to_str()?;
+    let on_command_line = std::env::args_os().skip(1).any(|a| {
+        a.to_str()
+            .is_some_and(|a| a == format!("--{long}") || a.starts_with(&format!("--{long}=")))
+    });
+    let value = std::env::var(variable).ok()?;
+    if on_command_line {
+        return None;
+    }
+    let why = error
+        .get(ContextKind::Custom)
+        .map(|c| c.to_string())
+        .or_else(|| {
+            // clap's rendered message ends with the parser's reason.
+            error
+                .render()
+                .to_string()
+                .lines()
+                .next()
+                .and_then(|l| l.rsplit_once(": "))
+                .map(|(_, why)| why.to_owned())
+        })
+        .unwrap_or_default();
+    Some(format!(
+        "invalid value '{value}' in the environment variable {variable} (the setting --{long}): {why}"
+    ))
 }
 
 impl Config {

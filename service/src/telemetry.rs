@@ -165,6 +165,7 @@ pub fn init(format: LogFormat, filter: &str) -> Telemetry {
     let fmt_layer: Box<dyn Layer<Registry> + Send + Sync> = match format {
         LogFormat::Plain => tracing_subscriber::fmt::layer()
             .with_writer(std::io::stderr)
+            .with_ansi(colour_on_stderr())
             .with_filter(filter)
             .boxed(),
         LogFormat::Json => tracing_subscriber::fmt::layer()
@@ -213,13 +214,21 @@ pub fn init(format: LogFormat, filter: &str) -> Telemetry {
     }
 }
 
+/// Whether plain log lines may carry ANSI colour codes: only when standard
+/// error is a terminal, so a file, a pipe or a log collector gets plain text.
+fn colour_on_stderr() -> bool {
+    use std::io::IsTerminal;
+    std::io::stderr().is_terminal()
+}
+
 /// Install only the log subscriber, as before OpenTelemetry export existed.
 pub fn init_tracing(format: LogFormat, filter: &str) {
     let filter = EnvFilter::try_new(filter)
         .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
     let builder = tracing_subscriber::fmt()
         .with_env_filter(filter)
-        .with_writer(std::io::stderr);
+        .with_writer(std::io::stderr)
+        .with_ansi(colour_on_stderr());
     match format {
         LogFormat::Plain => builder.init(),
         LogFormat::Json => builder.json().flatten_event(true).init(),

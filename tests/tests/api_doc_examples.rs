@@ -2,7 +2,7 @@
 //! number the document prints in a response is asserted here to its printed
 //! precision, so the document stays true to the service.
 //!
-//! The scenario (Larkspur Valley General Hospital and its patients) is
+//! The scenario (Larchmere Valley Infirmary and its patients) is
 //! fictional. The expected values are outputs of the service itself, recorded
 //! when the document was written (derived from the engine's equations; the
 //! equations' own checks against published values live in the other
@@ -20,6 +20,7 @@ use oxbind_client::v1::{
 use oxbind_client::v1::{
     saturation_from_tension_result, tension_from_saturation_result, HillPreset, Provenance,
     ProvenancePlacement, Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
+    WarningSeverity,
 };
 use oxbind_tests::{q, TestServer};
 use prost::Message;
@@ -240,12 +241,15 @@ fn model_of(provenance: &Option<Provenance>, id: &str, version: &str, inside: bo
     assert!(!provenance.build_commit.is_empty());
 }
 
-fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str)]) {
-    let got: Vec<(i32, &str)> = warnings
+fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str, WarningSeverity)]) {
+    let got: Vec<(i32, &str, i32)> = warnings
         .iter()
-        .map(|w| (w.code, w.field.as_str()))
+        .map(|w| (w.code, w.field.as_str(), w.severity))
         .collect();
-    let want: Vec<(i32, &str)> = expected.iter().map(|(c, f)| (*c as i32, *f)).collect();
+    let want: Vec<(i32, &str, i32)> = expected
+        .iter()
+        .map(|(c, f, s)| (*c as i32, *f, *s as i32))
+        .collect();
     assert_eq!(got, want);
 }
 
@@ -318,7 +322,11 @@ async fn saturation_from_tension_example_is_true() {
     );
     warnings_are(
         &r.warnings,
-        &[(WarningCode::ConditionNotModelled, "conditions.pco2")],
+        &[(
+            WarningCode::ConditionNotModelled,
+            "conditions.pco2",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -363,7 +371,11 @@ async fn tension_from_saturation_examples_are_true() {
     quantity(&plateau.po2_change_per_percent, "26.132", "mm[Hg]/%");
     warnings_are(
         &plateau.warnings,
-        &[(WarningCode::PlateauPoorlyDetermined, "saturation_fraction")],
+        &[(
+            WarningCode::PlateauPoorlyDetermined,
+            "saturation_fraction",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -520,7 +532,11 @@ async fn estimate_p50_example_is_true() {
     model_of(&o.provenance, "severinghaus-1979", "1.0.0", false);
     warnings_are(
         &o.warnings,
-        &[(WarningCode::OutsideValidatedRange, "pairs[0].conditions.ph")],
+        &[(
+            WarningCode::OutsideValidatedRange,
+            "pairs[0].conditions.ph",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -668,7 +684,8 @@ async fn batch_tension_from_saturation_example_is_true() {
     };
     assert_eq!(status.code, 3);
     let saturation = "requests[1].saturation_fraction must lie in [0.000001, 0.999999]: PO2 is zero at \
-saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6";
+saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6 \
+(this field takes a fraction between 0 and 1; send per cent divided by 100)";
     assert_eq!(status.message, saturation);
     let (violations, info) = details(&status.details);
     let violations: Vec<(&str, &str, &str)> = violations
@@ -747,7 +764,11 @@ async fn oxygen_content_example_is_true() {
     inputs_used(&w.provenance, &expected_inputs);
     warnings_are(
         &w.warnings,
-        &[(WarningCode::ConditionNotModelled, "arterial.conditions")],
+        &[(
+            WarningCode::ConditionNotModelled,
+            "arterial.conditions",
+            WarningSeverity::Informational,
+        )],
     );
     assert_eq!(
         w.warnings[0].message,
@@ -993,6 +1014,15 @@ model. Pass every warning on with the value it concerns."
                 "PRESSURE_OUT_OF_RANGE"
             ),
             (
+                "conditions_pco2",
+                0.001,
+                true,
+                760.0,
+                true,
+                "mm[Hg]",
+                "PCO2_OUT_OF_RANGE"
+            ),
+            (
                 "barometric_pressure",
                 150.0,
                 true,
@@ -1176,7 +1206,6 @@ model. Pass every warning on with the value it concerns."
     let mut ph = conditions_paths("ph", true);
     ph.push("ph".to_owned());
     let mut pressure = vec!["po2".to_owned(), "pco2".to_owned()];
-    pressure.extend(conditions_paths("pco2", true));
     pressure.extend(
         [
             "pao2",
@@ -1218,6 +1247,7 @@ model. Pass every warning on with the value it concerns."
     let expected_fields: Vec<(&str, Vec<String>)> = vec![
         ("ph", ph),
         ("pressure", pressure),
+        ("conditions_pco2", conditions_paths("pco2", true)),
         ("barometric_pressure", owned(&["barometric_pressure"])),
         ("temperature", temperature),
         (

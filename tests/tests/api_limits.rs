@@ -150,7 +150,7 @@ async fn hard_limits_of_the_forward_call() {
                 },
             ),
             "conditions.pco2.value",
-            "PRESSURE_OUT_OF_RANGE",
+            "PCO2_OUT_OF_RANGE",
         ),
         (
             saturation_request(

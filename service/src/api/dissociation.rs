@@ -522,7 +522,7 @@ pub fn compute_sample_curve(
         reader.refuse(Violation::other(
             &root.field("po2_max"),
             super::status::REASON_INCONSISTENT,
-            "po2_max must be greater than po2_min",
+            "must be greater than po2_min",
         ));
     }
     let count_path = root.field("point_count");
@@ -941,7 +941,10 @@ pub fn compute_correct_for_temperature(
         &limits::TEMPERATURE,
     );
     if request.ph.is_none() && request.pco2.is_none() && request.po2.is_none() {
-        reader.refuse(Violation::required(&root.field("po2")));
+        reader.refuse(Violation::required_unless(
+            &root.field("po2"),
+            &["ph", "pco2"],
+        ));
     }
     let inputs_used = reader.finish()?;
     let corrected = temperature::correct_blood_gas(&BloodGasTemperatureInput {

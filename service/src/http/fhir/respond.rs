@@ -7,7 +7,7 @@
 //! time as given: the inputs' `effectiveDateTime` when they agree, the span
 //! of them (`effectivePeriod`) when they differ.
 
-use oxbind_proto::v1::WarningCode;
+use oxbind_proto::v1::{WarningCode, WarningSeverity};
 use prost_types::Timestamp;
 
 use super::{
@@ -228,8 +228,15 @@ fn warnings(panel: &Panel, computed: &Computed, positions: &[usize]) -> Vec<Issu
                 }
                 None => found.warning.message.clone(),
             };
+            // A caution is a FHIR warning; an informational finding (a
+            // condition the model ignores inside its standard range) is
+            // information.
+            let level = match WarningSeverity::try_from(found.warning.severity) {
+                Ok(WarningSeverity::Informational) => severity::INFORMATION,
+                _ => severity::WARNING,
+            };
             let mut warning = issue(
-                severity::WARNING,
+                level,
                 issue_type::INFORMATIONAL,
                 diagnostics,
                 expression.clone(),
