@@ -22,6 +22,7 @@ use tower::util::option_layer;
 use crate::{
     api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
+    http::fhir::door::FhirLayer,
     layers::{call::CallLayer, connections::limited_incoming, web},
 };
 
@@ -128,7 +129,8 @@ where
         .max_concurrent_streams(config.max_concurrent_streams)
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        .accept_http1(config.grpc_web);
+        // HTTP/1.1 always: the FHIR door (and grpc-web) use it.
+        .accept_http1(true);
     if let Some(tls) = tls {
         builder = builder
             .tls_config(tls)
@@ -141,13 +143,18 @@ where
     let decode = config.max_decoded_message_bytes;
     let encode = config.max_encoded_message_bytes;
 
+    // One per-call layer (one call limit) for gRPC and the FHIR door.
+    let call_layer = CallLayer::new(config.max_concurrent_calls, config.call_timeout);
+
     let router = builder
+        // The FHIR R4 door (issue 12), wired here until the Connect
+        // dispatch (issue 17) gives the listener its non-gRPC routing:
+        // requests under /fhir/r4 go through their own copy of the per-call
+        // layer to http::fhir; everything else goes on to the gRPC stack.
+        .layer(FhirLayer::new(&call_layer, decode))
         .layer(option_layer(cors))
         .layer(option_layer(grpc_web))
-        .layer(CallLayer::new(
-            config.max_concurrent_calls,
-            config.call_timeout,
-        ))
+        .layer(call_layer)
         .add_service(health_service.clone())
         .add_optional_service(reflection)
         .add_optional_service(reflection_v1alpha)

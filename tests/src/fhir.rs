@@ -181,3 +181,126 @@ pub fn observation(id: &str, code: &str, value: f64, unit: &str) -> Value {
         },
     })
 }
+
+/// Over the wire: the same requests through a real server.
+pub mod wire {
+    use super::{keep, FhirAnswer};
+    use http::Method;
+    use http_body_util::{BodyExt, Full};
+    use tokio::io::{AsyncReadExt, AsyncWriteExt};
+    use tonic::{
+        body::Body,
+        codegen::{Bytes, Service},
+        transport::Channel,
+    };
+
+    fn answer(label: &str, status: u16, headers: &http::HeaderMap, body: Vec<u8>) -> FhirAnswer {
+        keep(label, &body);
+        let header = |name: http::header::HeaderName| {
+            headers
+                .get(name)
+                .and_then(|v| v.to_str().ok())
+                .map(str::to_owned)
+        };
+        FhirAnswer {
+            status,
+            content_type: header(http::header::CONTENT_TYPE).unwrap_or_default(),
+            allow: header(http::header::ALLOW),
+            body: serde_json::from_slice(&body).expect("the door answers JSON"),
+            raw: body,
+        }
+    }
+
+    /// One HTTP/2 request over `channel` (plaintext or TLS); also gives the
+    /// `x-request-id` the per-call layer echoed.
+    pub async fn http2(
+        label: &str,
+        channel: &mut Channel,
+        origin: &str,
+        method: Method,
+        path: &str,
+        body: &[u8],
+    ) -> (FhirAnswer, Option<String>) {
+        let request = http::Request::builder()
+            .method(method)
+            .uri(format!("{origin}{path}"))
+            .header(http::header::CONTENT_TYPE, "application/fhir+json")
+            .header("x-request-id", "lvi-fhir-test-1")
+            .body(Body::new(Full::new(Bytes::from(body.to_vec()))))
+            .unwrap();
+        std::future::poll_fn(|cx| channel.poll_ready(cx))
+            .await
+            .unwrap();
+        let response = channel.call(request).await.expect("an HTTP/2 answer");
+        let status = response.status().as_u16();
+        let headers = response.headers().clone();
+        let body = response.into_body().collect().await.unwrap().to_bytes();
+        let id = headers
+            .get("x-request-id")
+            .and_then(|v| v.to_str().ok())
+            .map(str::to_owned);
+        (answer(label, status, &headers, body.to_vec()), id)
+    }
+
+    /// One HTTP/1.1 request on a fresh plaintext connection to `address`.
+    pub async fn http1(
+        label: &str,
+        address: std::net::SocketAddr,
+        method: &str,
+        path: &str,
+        body: &[u8],
+    ) -> FhirAnswer {
+        let mut stream = tokio::net::TcpStream::connect(address).await.unwrap();
+        let head = format!(
+            "{method} {path} HTTP/1.1\r\nhost: {address}\r\ncontent-type: application/fhir+json\r\n\
+content-length: {}\r\nconnection: close\r\n\r\n",
+            body.len()
+        );
+        stream.write_all(head.as_bytes()).await.unwrap();
+        stream.write_all(body).await.unwrap();
+        let mut raw = Vec::new();
+        stream.read_to_end(&mut raw).await.unwrap();
+        let split = raw
+            .windows(4)
+            .position(|w| w == b"\r\n\r\n")
+            .expect("an HTTP/1.1 head");
+        let head = String::from_utf8_lossy(&raw[..split]).into_owned();
+        let mut lines = head.split("\r\n");
+        let status: u16 = lines
+            .next()
+            .and_then(|l| l.split(' ').nth(1))
+            .and_then(|s| s.parse().ok())
+            .expect("a status line");
+        let mut headers = http::HeaderMap::new();
+        let mut chunked = false;
+        for line in lines {
+            if let Some((name, value)) = line.split_once(':') {
+                let name: http::header::HeaderName = name.trim().parse().unwrap();
+                let value = value.trim();
+                chunked |= name == http::header::TRANSFER_ENCODING && value == "chunked";
+                headers.insert(name, value.parse().unwrap());
+            }
+        }
+        let mut body = raw[split + 4..].to_vec();
+        if chunked {
+            body = dechunk(&body);
+        }
+        answer(label, status, &headers, body)
+    }
+
+    fn dechunk(mut data: &[u8]) -> Vec<u8> {
+        let mut out = Vec::new();
+        loop {
+            let line_end = data.windows(2).position(|w| w == b"\r\n").unwrap();
+            let size =
+                usize::from_str_radix(std::str::from_utf8(&data[..line_end]).unwrap().trim(), 16)
+                    .unwrap();
+            data = &data[line_end + 2..];
+            if size == 0 {
+                return out;
+            }
+            out.extend_from_slice(&data[..size]);
+            data = &data[size + 2..];
+        }
+    }
+}

@@ -52,7 +52,7 @@ const TIMER_MARGIN: Duration = Duration::from_millis(1);
 const HEALTH_PATH_PREFIX: &str = "/grpc.health.v1.Health/";
 
 /// Every method the server serves, fully qualified as `rpc.method` wants it.
-const KNOWN_METHODS: [&str; 16] = [
+const KNOWN_METHODS: [&str; 20] = [
     "oxbind.v1.DissociationService/SaturationFromTension",
     "oxbind.v1.DissociationService/TensionFromSaturation",
     "oxbind.v1.DissociationService/SampleCurve",
@@ -69,6 +69,11 @@ const KNOWN_METHODS: [&str; 16] = [
     "grpc.health.v1.Health/List",
     "grpc.reflection.v1.ServerReflection/ServerReflectionInfo",
     "grpc.reflection.v1alpha.ServerReflection/ServerReflectionInfo",
+    // The FHIR door (http/fhir): its operation and conformance reads.
+    "fhir/r4/$derive-oxygen-values",
+    "fhir/r4/metadata",
+    "fhir/r4/OperationDefinition/derive-oxygen-values",
+    "fhir/r4/CodeSystem/oxygen-derived-values",
 ];
 
 /// `rpc.method` for a method the server does not know (semantic conventions).

@@ -25,12 +25,16 @@ pub const OPERATION_DEFINITION_ID: &str = "derive-oxygen-values";
 /// The CodeSystem's id (its path under `CodeSystem/`).
 pub const CODE_SYSTEM_ID: &str = "oxygen-derived-values";
 
-/// The CapabilityStatement with this build's version.
+/// The placeholder of `software.version` in the data file.
+const VERSION_PLACEHOLDER: &str = "\"set by the server\"";
+
+/// The CapabilityStatement with this build's version (the data file as
+/// written otherwise).
 pub static METADATA: LazyLock<Vec<u8>> = LazyLock::new(|| {
-    let mut statement: Value =
-        serde_json::from_str(CAPABILITY_STATEMENT).expect("capabilitystatement.json parses");
-    statement["software"]["version"] = Value::String(SERVICE_VERSION.to_owned());
-    serde_json::to_vec(&statement).expect("a JSON value serialises")
+    let version = Value::String(SERVICE_VERSION.to_owned()).to_string();
+    CAPABILITY_STATEMENT
+        .replacen(VERSION_PLACEHOLDER, &version, 1)
+        .into_bytes()
 });
 
 #[cfg(test)]

@@ -23,6 +23,7 @@
 pub mod codes;
 pub mod compute;
 pub mod conformance;
+pub mod door;
 pub mod outcome;
 pub mod panel;
 pub mod resources;
@@ -90,7 +91,8 @@ impl FhirResponse {
         }
     }
 
-    fn refused(refusal: &Refusal) -> Self {
+    /// The OperationOutcome of `refusal`, with its status.
+    pub fn refused(refusal: &Refusal) -> Self {
         // Counts only: never an element, never a value.
         tracing::debug!(
             status = refusal.status.as_u16(),

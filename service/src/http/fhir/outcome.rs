@@ -61,6 +61,10 @@ pub mod issue_type {
     pub const CONFLICT: &str = "conflict";
     /// The server failed unexpectedly.
     pub const EXCEPTION: &str = "exception";
+    /// A temporary condition; retry later.
+    pub const TRANSIENT: &str = "transient";
+    /// The time allowed ran out.
+    pub const TIMEOUT: &str = "timeout";
     /// Not an error: information for the caller.
     pub const INFORMATIONAL: &str = "informational";
     /// A warning the computation raised.
