@@ -19,7 +19,10 @@ fn block(marker: &str) -> Value {
         .find(marker)
         .unwrap_or_else(|| panic!("{marker} not in API.md"));
     let rest = &API_MD[start..];
-    let open = rest.find("```json\n").expect("a json block after the marker") + 8;
+    let open = rest
+        .find("```json\n")
+        .expect("a json block after the marker")
+        + 8;
     let close = rest[open..].find("\n```").expect("the block ends");
     serde_json::from_str(&rest[open..open + close])
         .unwrap_or_else(|e| panic!("the block after {marker} is not JSON: {e}"))
@@ -54,7 +57,10 @@ fn mask(answer: &mut Value) {
                 resource["recorded"] = "COMPUTE-TIME".into();
                 resource["agent"][0]["who"]["reference"] = "Device/oxbind-VERSION-COMMIT".into();
                 for target in resource["target"].as_array_mut().unwrap() {
-                    let id = target["reference"].as_str().unwrap().trim_start_matches("Observation/");
+                    let id = target["reference"]
+                        .as_str()
+                        .unwrap()
+                        .trim_start_matches("Observation/");
                     target["reference"] = format!("Observation/{}", ids[id]).into();
                 }
             }
