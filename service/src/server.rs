@@ -129,7 +129,8 @@ where
         .max_concurrent_streams(config.max_concurrent_streams)
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        // HTTP/1.1 always: the FHIR door (and grpc-web) use it.
+        // HTTP/1.1 always: the FHIR door (and grpc-web) use it; without
+        // grpc-web the FHIR layer answers other HTTP/1.1 requests 505.
         .accept_http1(true);
     if let Some(tls) = tls {
         builder = builder
@@ -151,7 +152,7 @@ where
         // dispatch (issue 17) gives the listener its non-gRPC routing:
         // requests under /fhir/r4 go through their own copy of the per-call
         // layer to http::fhir; everything else goes on to the gRPC stack.
-        .layer(FhirLayer::new(&call_layer, decode))
+        .layer(FhirLayer::new(&call_layer, decode, config.grpc_web))
         .layer(option_layer(cors))
         .layer(option_layer(grpc_web))
         .layer(call_layer)

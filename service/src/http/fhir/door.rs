@@ -43,14 +43,18 @@ pub fn is_fhir_path(path: &str) -> bool {
 #[derive(Debug, Clone)]
 pub struct FhirLayer {
     endpoint: CallService<Endpoint>,
+    http1_beyond_fhir: bool,
 }
 
 impl FhirLayer {
     /// The door with `call_layer` around it, reading bodies of at most
-    /// `max_request_bytes`.
-    pub fn new(call_layer: &CallLayer, max_request_bytes: usize) -> Self {
+    /// `max_request_bytes`. The listener speaks HTTP/1.1 for the door; other
+    /// HTTP/1.1 requests go on only when `http1_beyond_fhir` (grpc-web is
+    /// on), and are otherwise answered 505, as before the door.
+    pub fn new(call_layer: &CallLayer, max_request_bytes: usize, http1_beyond_fhir: bool) -> Self {
         Self {
             endpoint: call_layer.layer(Endpoint { max_request_bytes }),
+            http1_beyond_fhir,
         }
     }
 }
@@ -62,6 +66,7 @@ impl<S> Layer<S> for FhirLayer {
         FhirRouter {
             grpc,
             fhir: self.endpoint.clone(),
+            http1_beyond_fhir: self.http1_beyond_fhir,
         }
     }
 }
@@ -71,6 +76,7 @@ impl<S> Layer<S> for FhirLayer {
 pub struct FhirRouter<S> {
     grpc: S,
     fhir: CallService<Endpoint>,
+    http1_beyond_fhir: bool,
 }
 
 impl<S> Service<Request<Body>> for FhirRouter<S>
@@ -88,6 +94,10 @@ where
     }
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
+        let http1 = request.version() < http::Version::HTTP_2;
+        if !is_fhir_path(request.uri().path()) && http1 && !self.http1_beyond_fhir {
+            return Box::pin(std::future::ready(Ok(http1_not_served())));
+        }
         if !is_fhir_path(request.uri().path()) {
             let clone = self.grpc.clone();
             let mut grpc = std::mem::replace(&mut self.grpc, clone);
@@ -102,6 +112,18 @@ where
             Ok(at_the_edge(response))
         })
     }
+}
+
+/// The answer to an HTTP/1.1 request for the gRPC stack without grpc-web.
+fn http1_not_served() -> Response<Body> {
+    let text = "gRPC is served over HTTP/2; grpc-web over HTTP/1.1 needs --grpc-web\n";
+    let mut response = Response::new(Body::new(Full::new(Bytes::from_static(text.as_bytes()))));
+    *response.status_mut() = StatusCode::HTTP_VERSION_NOT_SUPPORTED;
+    response.headers_mut().insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("text/plain; charset=utf-8"),
+    );
+    response
 }
 
 /// Remove the door's `grpc-status`, or turn an answer of the per-call layer
