@@ -85,8 +85,8 @@ pub struct Refusal {
 pub fn decode_details(
     details: &[prost_types_any::Any],
 ) -> (Vec<Refusal>, Option<(String, String)>) {
+    use oxbind_proto::google::rpc as pb;
     use prost::Message;
-    use tonic_types::pb;
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {
@@ -113,12 +113,12 @@ pub fn refusal_of(status: &tonic::Status) -> (Vec<Refusal>, Option<(String, Stri
         tonic::Code::InvalidArgument,
         "expected INVALID_ARGUMENT, got {status:?}"
     );
-    let rpc =
-        tonic_types::pb::Status::decode(status.details()).expect("grpc-status-details-bin decodes");
+    let rpc = oxbind_proto::google::rpc::Status::decode(status.details())
+        .expect("grpc-status-details-bin decodes");
     decode_details(&rpc.details)
 }
 
 /// Re-export of the `Any` type used in `google.rpc.Status` details.
 pub mod prost_types_any {
-    pub use prost_types::Any;
+    pub use oxbind_proto::Any;
 }

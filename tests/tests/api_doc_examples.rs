@@ -21,10 +21,10 @@ use oxbind_client::v1::{
     saturation_from_tension_result, tension_from_saturation_result, HillPreset, Provenance,
     ProvenancePlacement, Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
 };
+use oxbind_proto::google::rpc as pb;
 use oxbind_tests::{q, TestServer};
 use prost::Message;
 use tonic::transport::Channel;
-use tonic_types::pb;
 
 fn saturation_from_tension_example() -> SaturationFromTensionRequest {
     SaturationFromTensionRequest {
@@ -251,7 +251,7 @@ fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str)]) {
 
 /// A refusal's BadRequest violations (field, reason, description) and its
 /// ErrorInfo.
-fn details(details: &[prost_types::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
+fn details(details: &[oxbind_proto::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {

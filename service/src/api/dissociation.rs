@@ -205,7 +205,7 @@ fn compute_batch<Req, Resp, Item>(
     requests: &[Req],
     raw_placement: i32,
     compute: impl Fn(&Req, ItemProvenance) -> Result<(Resp, ProvenanceKey), InvalidRequest>,
-    wrap: impl Fn(Result<Resp, tonic_types::pb::Status>, u32) -> Item,
+    wrap: impl Fn(Result<Resp, oxbind_proto::google::rpc::Status>, u32) -> Item,
 ) -> Result<(Vec<Item>, Vec<oxbind_proto::v1::Provenance>), Status> {
     let (placement, mut shared) = batch_placement(raw_placement)?;
     let results = requests
@@ -221,7 +221,7 @@ fn compute_batch<Req, Resp, Item>(
 
 /// The status of a refused batch item, its field paths prefixed by the
 /// item's place (`requests[3].po2.value`).
-fn item_refusal(refusal: InvalidRequest, index: usize) -> tonic_types::pb::Status {
+fn item_refusal(refusal: InvalidRequest, index: usize) -> oxbind_proto::google::rpc::Status {
     let refusal = refusal.within_item("requests", index);
     observe::refused_item(&refusal);
     refusal.to_rpc_status()

@@ -72,6 +72,12 @@ fn build(
         api_version: API_VERSION.to_owned(),
         inputs_used,
         within_validated_range,
-        compute_time: Some(prost_types::Timestamp::from(SystemTime::now())),
+        compute_time: Some(timestamp(SystemTime::now())),
     }
+}
+
+/// `time` as a `google.protobuf.Timestamp`.
+fn timestamp(time: SystemTime) -> oxbind_proto::pbjson_types::Timestamp {
+    let prost_types::Timestamp { seconds, nanos } = prost_types::Timestamp::from(time);
+    oxbind_proto::pbjson_types::Timestamp { seconds, nanos }
 }

@@ -7,9 +7,9 @@
 //! `grpc-status-details-bin` trailer; a batch item carries it in its result.
 //! Status messages name fields and limits, never the values received.
 
+use oxbind_proto::{google::rpc as pb, Any};
 use prost::Message;
 use tonic::{Code, Status};
-use tonic_types::pb;
 
 use super::{field_path::FieldPath, limits::HardLimit, units};
 use crate::physiology::error::PhysiologyError;
@@ -241,8 +241,8 @@ impl InvalidRequest {
             code: Code::InvalidArgument as i32,
             message: self.message(),
             details: vec![
-                any("google.rpc.BadRequest", &bad_request),
-                any("google.rpc.ErrorInfo", &error_info),
+                Any::pack(tonic_types::BadRequest::TYPE_URL, &bad_request),
+                Any::pack(tonic_types::ErrorInfo::TYPE_URL, &error_info),
             ],
         }
     }
@@ -261,13 +261,6 @@ impl InvalidRequest {
 impl From<InvalidRequest> for Status {
     fn from(value: InvalidRequest) -> Self {
         value.into_status()
-    }
-}
-
-fn any(type_name: &str, message: &impl Message) -> prost_types::Any {
-    prost_types::Any {
-        type_url: format!("type.googleapis.com/{type_name}"),
-        value: message.encode_to_vec(),
     }
 }
 
