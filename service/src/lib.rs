@@ -14,6 +14,8 @@
 
 pub mod api;
 pub mod config;
+pub mod identity;
+pub mod instruments;
 pub mod layers;
 pub mod physiology;
 pub mod server;
@@ -21,10 +23,5 @@ pub mod shutdown;
 pub mod telemetry;
 
 pub use config::Config;
+pub use identity::{BUILD_COMMIT, SERVICE_VERSION};
 pub use server::{serve, serve_on, ServeError};
-
-/// The service's version, as reported in provenance.
-pub const SERVICE_VERSION: &str = env!("CARGO_PKG_VERSION");
-
-/// The git commit the service was built from, or "unknown" outside a checkout.
-pub const BUILD_COMMIT: &str = env!("OXBIND_BUILD_COMMIT");

@@ -145,7 +145,7 @@ impl DissociationService for DissociationApi {
     ) -> Result<Response<BatchSaturationFromTensionResponse>, Status> {
         let request = request.get_ref();
         self.check_batch_size(request.requests.len())?;
-        crate::telemetry::record_batch_items(
+        crate::instruments::record_batch_items(
             "oxbind.v1.DissociationService/BatchSaturationFromTension",
             request.requests.len() as u64,
         );
@@ -173,7 +173,7 @@ impl DissociationService for DissociationApi {
     ) -> Result<Response<BatchTensionFromSaturationResponse>, Status> {
         let request = request.get_ref();
         self.check_batch_size(request.requests.len())?;
-        crate::telemetry::record_batch_items(
+        crate::instruments::record_batch_items(
             "oxbind.v1.DissociationService/BatchTensionFromSaturation",
             request.requests.len() as u64,
         );

@@ -4,7 +4,7 @@
 use oxbind_proto::v1::{Provenance, Warning, WarningCode};
 
 use super::status::InvalidRequest;
-use crate::{physiology::model::catalog, telemetry};
+use crate::{instruments, physiology::model::catalog};
 
 /// Record the model and the warnings of one computed result.
 pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
@@ -13,7 +13,7 @@ pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
         .and_then(|id| catalog().iter().find(|info| info.id == id))
         .map(|info| info.id)
     {
-        telemetry::record_model(id);
+        instruments::record_model(id);
     }
     if !warnings.is_empty() {
         let codes: Vec<&'static str> = warnings
@@ -24,7 +24,7 @@ pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
                     .as_str_name()
             })
             .collect();
-        telemetry::record_warnings(&codes);
+        instruments::record_warnings(&codes);
     }
 }
 
@@ -32,6 +32,6 @@ pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
 /// value).
 pub fn refused_item(refusal: &InvalidRequest) {
     for violation in refusal.violations() {
-        telemetry::record_refused_input(&violation.field);
+        instruments::record_refused_input(&violation.field);
     }
 }

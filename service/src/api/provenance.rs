@@ -5,7 +5,10 @@ use std::time::SystemTime;
 
 use oxbind_proto::v1::{InputUsed, Provenance};
 
-use crate::{physiology::model::ModelInfo, BUILD_COMMIT, SERVICE_VERSION};
+use crate::{
+    identity::{BUILD_COMMIT, SERVICE_VERSION},
+    physiology::model::ModelInfo,
+};
 
 /// The API version of the contract.
 pub const API_VERSION: &str = "v1";

@@ -35,7 +35,7 @@ use tower::{Layer, Service};
 use tracing::{field::Empty, Instrument, Span};
 use tracing_opentelemetry::OpenTelemetrySpanExt;
 
-use crate::telemetry::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
+use crate::instruments::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
 
 /// Metadata key of the request id, read from the request and echoed back.
 pub const REQUEST_ID_HEADER: &str = "x-request-id";
@@ -160,7 +160,7 @@ where
                 oxbind.warning_codes = Empty,
             )
         };
-        let trace_id = if telemetry::traces_exported() && !span.is_none() {
+        let trace_id = if instruments::traces_exported() && !span.is_none() {
             let _ = span.set_parent(parent);
             span.context().span().span_context().trace_id()
         } else {
@@ -275,7 +275,7 @@ impl Drop for CallRecord {
             KeyValue::new("rpc.method", self.method),
             KeyValue::new("rpc.status_code", name),
         ];
-        let instruments = telemetry::instruments();
+        let instruments = instruments::instruments();
         instruments
             .call_duration
             .record(elapsed.as_secs_f64(), &attributes);
@@ -413,7 +413,7 @@ fn count_refused_fields(headers: &HeaderMap) {
     {
         if let Ok(bad) = tonic_types::pb::BadRequest::decode(detail.value.as_slice()) {
             for violation in &bad.field_violations {
-                telemetry::record_refused_input(&violation.field);
+                instruments::record_refused_input(&violation.field);
             }
         }
     }
