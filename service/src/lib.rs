@@ -14,6 +14,7 @@
 
 pub mod api;
 pub mod config;
+pub mod grpc;
 pub mod identity;
 pub mod instruments;
 pub mod layers;

@@ -20,8 +20,8 @@ use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::util::option_layer;
 
 use crate::{
-    api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
+    grpc::{CatalogApi, DissociationApi, TransportApi},
     layers::{call::CallLayer, connections::limited_incoming, web},
 };
 

@@ -1,11 +1,14 @@
-//! The one place that turns refusals into gRPC statuses.
+//! Refusals, and the one place that turns them into `google.rpc.Status`.
 //!
 //! Every refused input becomes a `google.rpc.BadRequest` field violation with
 //! its dotted path, and the status carries one `google.rpc.ErrorInfo` in domain
 //! [`ERROR_DOMAIN`] whose reason is that of the first violation (AIP-193: one
-//! detail of each type). A single call sends that `google.rpc.Status` in the
-//! `grpc-status-details-bin` trailer; a batch item carries it in its result.
-//! Status messages name fields and limits, never the values received.
+//! detail of each type). A batch item carries that `google.rpc.Status` in its
+//! result. Each door sends a refused call's status in its own shape from
+//! [`InvalidRequest::to_rpc_status`]: gRPC in the `grpc-status-details-bin`
+//! trailer ([`InvalidRequest::into_status`]), Connect in its error JSON
+//! (`crate::http::connect`). Status messages name fields and limits, never
+//! the values received.
 
 use oxbind_proto::{google::rpc as pb, Any};
 use prost::Message;
@@ -265,12 +268,12 @@ impl From<InvalidRequest> for Status {
 }
 
 /// A refusal for a batch as a whole (empty, or over the item limit).
-pub fn batch_refusal(reason: &'static str, description: String, limit: usize) -> Status {
+pub fn batch_refusal(reason: &'static str, description: String, limit: usize) -> InvalidRequest {
     let violation = Violation {
         field: "requests".to_owned(),
         reason,
         description,
         metadata: vec![("max_items".to_owned(), limit.to_string())],
     };
-    InvalidRequest::one(violation).into_status()
+    InvalidRequest::one(violation)
 }
