@@ -31,6 +31,26 @@ pub struct Any {
     pub value: Vec<u8>,
 }
 
+/// Call `$then::<T>` with the registered type `T` named `$name`, or evaluate
+/// `$otherwise`.
+macro_rules! with_registered_type {
+    ($name:expr, $then:ident ( $($arg:expr),* ), $otherwise:expr) => {
+        match $name {
+            "google.rpc.ErrorInfo" => $then::<rpc::ErrorInfo>($($arg),*),
+            "google.rpc.RetryInfo" => $then::<rpc::RetryInfo>($($arg),*),
+            "google.rpc.DebugInfo" => $then::<rpc::DebugInfo>($($arg),*),
+            "google.rpc.QuotaFailure" => $then::<rpc::QuotaFailure>($($arg),*),
+            "google.rpc.PreconditionFailure" => $then::<rpc::PreconditionFailure>($($arg),*),
+            "google.rpc.BadRequest" => $then::<rpc::BadRequest>($($arg),*),
+            "google.rpc.RequestInfo" => $then::<rpc::RequestInfo>($($arg),*),
+            "google.rpc.ResourceInfo" => $then::<rpc::ResourceInfo>($($arg),*),
+            "google.rpc.Help" => $then::<rpc::Help>($($arg),*),
+            "google.rpc.LocalizedMessage" => $then::<rpc::LocalizedMessage>($($arg),*),
+            _ => $otherwise,
+        }
+    };
+}
+
 /// The JSON key of the type URL.
 const TYPE_KEY: &str = "@type";
 
@@ -48,6 +68,20 @@ impl Any {
     /// last `/`), e.g. `google.rpc.BadRequest`.
     pub fn type_name(&self) -> &str {
         type_name(&self.type_url)
+    }
+
+    /// The packed message's own fields in their JSON form (without `@type`),
+    /// or why there is none (a type outside the registry, or bytes that do
+    /// not decode as the named type).
+    pub fn message_json(&self) -> Result<Map<String, Value>, String> {
+        with_registered_type!(
+            self.type_name(),
+            fields_of(&self.value),
+            Err(format!(
+                "google.protobuf.Any of type `{}` has no JSON form here: the type is not registered",
+                self.type_url
+            ))
+        )
     }
 }
 
@@ -73,26 +107,6 @@ impl From<Any> for prost_types::Any {
     }
 }
 
-/// Call `$then::<T>` with the registered type `T` named `$name`, or evaluate
-/// `$otherwise`.
-macro_rules! with_registered_type {
-    ($name:expr, $then:ident ( $($arg:expr),* ), $otherwise:expr) => {
-        match $name {
-            "google.rpc.ErrorInfo" => $then::<rpc::ErrorInfo>($($arg),*),
-            "google.rpc.RetryInfo" => $then::<rpc::RetryInfo>($($arg),*),
-            "google.rpc.DebugInfo" => $then::<rpc::DebugInfo>($($arg),*),
-            "google.rpc.QuotaFailure" => $then::<rpc::QuotaFailure>($($arg),*),
-            "google.rpc.PreconditionFailure" => $then::<rpc::PreconditionFailure>($($arg),*),
-            "google.rpc.BadRequest" => $then::<rpc::BadRequest>($($arg),*),
-            "google.rpc.RequestInfo" => $then::<rpc::RequestInfo>($($arg),*),
-            "google.rpc.ResourceInfo" => $then::<rpc::ResourceInfo>($($arg),*),
-            "google.rpc.Help" => $then::<rpc::Help>($($arg),*),
-            "google.rpc.LocalizedMessage" => $then::<rpc::LocalizedMessage>($($arg),*),
-            _ => $otherwise,
-        }
-    };
-}
-
 /// The JSON object of the message of type `T` encoded in `bytes`.
 fn fields_of<T: Message + Default + Serialize>(bytes: &[u8]) -> Result<Map<String, Value>, String> {
     let message = T::decode(bytes).map_err(|e| e.to_string())?;
@@ -111,15 +125,7 @@ fn encode_from<T: Message + for<'de> Deserialize<'de>>(
 
 impl Serialize for Any {
     fn serialize<S: serde::Serializer>(&self, serializer: S) -> Result<S::Ok, S::Error> {
-        let fields = with_registered_type!(
-            self.type_name(),
-            fields_of(&self.value),
-            Err(format!(
-                "google.protobuf.Any of type `{}` has no JSON form here: the type is not registered",
-                self.type_url
-            ))
-        )
-        .map_err(S::Error::custom)?;
+        let fields = self.message_json().map_err(S::Error::custom)?;
         let mut map = serializer.serialize_map(Some(fields.len() + 1))?;
         map.serialize_entry(TYPE_KEY, &self.type_url)?;
         for (key, value) in &fields {

@@ -1,7 +1,15 @@
-//! Start-up and shutdown: the gRPC server on an already-bound listener.
+//! Start-up and shutdown: the server on an already-bound listener.
 //!
 //! [`serve`] takes the listener and any shutdown future, so the binary passes a
 //! real socket and the OS signals, and tests pass port 0 and a oneshot.
+//!
+//! The main listener serves gRPC, grpc-web (behind a flag) and the Connect
+//! protocol, over HTTP/2 and HTTP/1.1. Each request passes, outermost first:
+//! CORS (when origins are configured), the door dispatch
+//! ([`crate::http::DispatchLayer`]: Connect by content type, refusals for
+//! v1 paths), then, for gRPC and grpc-web only, grpc-web translation, the
+//! per-call layer and the tonic routes. The Connect door has its own copy of
+//! the same per-call layer (one shared call limit).
 
 use std::{future::Future, time::Duration};
 
@@ -22,6 +30,7 @@ use tower::util::option_layer;
 use crate::{
     config::Config,
     grpc::{CatalogApi, DissociationApi, TransportApi},
+    http::{connect, DispatchLayer},
     layers::{call::CallLayer, connections::limited_incoming, web},
 };
 
@@ -128,26 +137,38 @@ where
         .max_concurrent_streams(config.max_concurrent_streams)
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        .accept_http1(config.grpc_web);
+        // HTTP/1.1 always: the Connect protocol and grpc-web use it.
+        .accept_http1(true);
     if let Some(tls) = tls {
         builder = builder
             .tls_config(tls)
             .map_err(|e| ServeError::Tls(e.to_string()))?;
     }
-    let cors = config
-        .grpc_web
+    let cors = (config.grpc_web || !config.cors_allowed_origins.is_empty())
         .then(|| web::cors_layer(&config.cors_allowed_origins));
     let grpc_web = config.grpc_web.then(web::grpc_web_layer);
     let decode = config.max_decoded_message_bytes;
     let encode = config.max_encoded_message_bytes;
+    // One per-call layer (one call limit) for both stacks below.
+    let call_layer = CallLayer::new(config.max_concurrent_calls, config.call_timeout);
+    let connect = connect::door(
+        &call_layer,
+        connect::Limits {
+            max_batch_items: config.max_batch_items,
+            max_request_bytes: decode,
+            max_response_bytes: encode,
+        },
+    );
 
     let router = builder
         .layer(option_layer(cors))
+        // The dispatch: Connect (with its own copy of the per-call layer)
+        // and refusals here; gRPC and grpc-web go on below.
+        .layer(DispatchLayer::new(connect))
+        // Only gRPC and grpc-web requests pass this point: a gRPC
+        // strictness layer goes here.
         .layer(option_layer(grpc_web))
-        .layer(CallLayer::new(
-            config.max_concurrent_calls,
-            config.call_timeout,
-        ))
+        .layer(call_layer)
         .add_service(health_service.clone())
         .add_optional_service(reflection)
         .add_optional_service(reflection_v1alpha)

@@ -44,6 +44,10 @@ pub const REASON_BATCH_EMPTY: &str = "BATCH_EMPTY";
 pub const REASON_BATCH_TOO_LARGE: &str = "BATCH_TOO_LARGE";
 /// ErrorInfo reason: the engine refused a value outside its own range.
 pub const REASON_OUT_OF_RANGE: &str = "VALUE_OUT_OF_RANGE";
+/// ErrorInfo reason: a request body that is not a message of the RPC's
+/// request type in the encoding it names (a door that decodes the message
+/// itself, such as Connect, refuses with it).
+pub const REASON_NOT_DECODABLE: &str = "MESSAGE_NOT_DECODABLE";
 
 /// One refused field.
 #[derive(Debug, Clone, PartialEq)]
@@ -124,6 +128,18 @@ impl Violation {
         Self {
             description: format!("{field}: {}", description.into()),
             reason,
+            metadata: Vec::new(),
+            field,
+        }
+    }
+
+    /// A request message that could not be decoded. `field` is the dotted
+    /// path where decoding stopped (empty when the message as a whole is
+    /// unreadable); `description` says why, without the value received.
+    pub fn not_decodable(field: String, description: impl Into<String>) -> Self {
+        Self {
+            description: description.into(),
+            reason: REASON_NOT_DECODABLE,
             metadata: Vec::new(),
             field,
         }
