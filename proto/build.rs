@@ -6,7 +6,9 @@
 //!   (pbjson-build), for the Connect protocol's JSON codec.
 //!
 //! The well-known types come from `pbjson-types` (prost messages with the
-//! mapping's JSON forms, e.g. Timestamp as an RFC 3339 string), and the
+//! mapping's JSON forms), except `Timestamp`, which is `crate::timestamp::
+//! Timestamp` (pbjson-types writes it with `+00:00` rather than the `Z` the
+//! mapping asks for), and the
 //! `google.rpc` types the contract and its errors use (Status and the error
 //! details) are generated here from the vendored googleapis files, so they
 //! have JSON forms too. `google.protobuf.Any` is `crate::any::Any`, whose
@@ -43,6 +45,9 @@ const WELL_KNOWN_TYPES: (&str, &str) = (".google.protobuf", "::pbjson_types");
 /// it wins in both generators).
 const ANY_TYPE: (&str, &str) = (".google.protobuf.Any", "crate::any::Any");
 
+/// Where `google.protobuf.Timestamp` comes from (as `ANY_TYPE`).
+const TIMESTAMP_TYPE: (&str, &str) = (".google.protobuf.Timestamp", "crate::timestamp::Timestamp");
+
 /// The packages generated here.
 const GENERATED_PACKAGES: [&str; 2] = [".oxbind.v1", ".google.rpc"];
 
@@ -72,6 +77,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         .compile_well_known_types(true)
         .extern_path(WELL_KNOWN_TYPES.0, WELL_KNOWN_TYPES.1)
         .extern_path(ANY_TYPE.0, ANY_TYPE.1)
+        .extern_path(TIMESTAMP_TYPE.0, TIMESTAMP_TYPE.1)
         // Decode each message from one contiguous slice (src/codec.rs).
         .codec_path("crate::codec::ContiguousProstCodec")
         .compile_fds(generated)?;
@@ -80,6 +86,7 @@ fn main() -> Result<(), Box<dyn std::error::Error>> {
         .register_descriptors(&encoded)?
         .extern_path(WELL_KNOWN_TYPES.0, WELL_KNOWN_TYPES.1)
         .extern_path(ANY_TYPE.0, ANY_TYPE.1)
+        .extern_path(TIMESTAMP_TYPE.0, TIMESTAMP_TYPE.1)
         .build(&GENERATED_PACKAGES)?;
     Ok(())
 }

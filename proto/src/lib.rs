@@ -40,12 +40,14 @@ pub mod any;
 pub mod codec;
 mod conditions;
 mod quantity;
+pub mod timestamp;
 
 pub use any::Any;
 /// The well-known types (`google.protobuf.*`) the generated code uses, with
 /// their proto3 JSON forms.
 pub use pbjson_types;
 pub use quantity::ucum;
+pub use timestamp::Timestamp;
 
 /// The encoded `FileDescriptorSet` of the whole v1 contract (with its imports),
 /// for registration with server reflection.

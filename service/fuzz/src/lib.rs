@@ -362,7 +362,7 @@ mod tests {
                     }),
                     defaulted: false,
                 }],
-                compute_time: Some(oxbind_proto::pbjson_types::Timestamp {
+                compute_time: Some(oxbind_proto::Timestamp {
                     seconds: 1,
                     nanos: 2,
                 }),

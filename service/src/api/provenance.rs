@@ -75,12 +75,6 @@ fn build(
         api_version: API_VERSION.to_owned(),
         inputs_used,
         within_validated_range,
-        compute_time: Some(timestamp(SystemTime::now())),
+        compute_time: Some(oxbind_proto::Timestamp::from(SystemTime::now())),
     }
-}
-
-/// `time` as a `google.protobuf.Timestamp`.
-fn timestamp(time: SystemTime) -> oxbind_proto::pbjson_types::Timestamp {
-    let prost_types::Timestamp { seconds, nanos } = prost_types::Timestamp::from(time);
-    oxbind_proto::pbjson_types::Timestamp { seconds, nanos }
 }
