@@ -462,10 +462,12 @@ async fn protocol_errors_have_the_protocols_statuses() {
     .await;
     assert_eq!(answer.status, 405);
     assert_eq!(answer.header("allow"), "GET, POST");
-    // A protocol version other than 1, and request compression.
+    // A protocol version other than 1, an unsupported compression, a body
+    // that is not the gzip it claims, a malformed timeout.
     for (header, value, status, code) in [
         ("connect-protocol-version", "2", 400, "invalid_argument"),
-        ("content-encoding", "gzip", 501, "unimplemented"),
+        ("content-encoding", "br", 501, "unimplemented"),
+        ("content-encoding", "gzip", 400, "invalid_argument"),
         ("connect-timeout-ms", "soon", 400, "invalid_argument"),
     ] {
         let answer = send(
@@ -756,5 +758,38 @@ async fn the_request_id_is_echoed_on_success_and_on_refusal() {
         assert_eq!(answer.status, status);
         assert_eq!(answer.header("x-request-id"), "lvi-order-4711");
     }
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn a_gzip_request_gets_a_gzip_answer() {
+    use std::io::{Read, Write};
+    let server = TestServer::start().await;
+    let mut encoder = flate2::write::GzEncoder::new(Vec::new(), flate2::Compression::default());
+    encoder
+        .write_all(br#"{"po2":{"value":60,"unit":"mm[Hg]"}}"#)
+        .unwrap();
+    let answer = send(
+        server.address(),
+        Version::Http2,
+        request(
+            Method::POST,
+            SATURATION,
+            &[
+                ("content-type", "application/json"),
+                ("content-encoding", "gzip"),
+            ],
+            encoder.finish().unwrap(),
+        ),
+    )
+    .await;
+    assert_eq!(answer.status, 200);
+    assert_eq!(answer.header("content-encoding"), "gzip");
+    let mut text = String::new();
+    flate2::read::GzDecoder::new(answer.body.as_ref())
+        .read_to_string(&mut text)
+        .unwrap();
+    let body: Value = serde_json::from_str(&text).unwrap();
+    assert!((body["saturationFraction"].as_f64().unwrap() - 0.905_797).abs() < 1e-6);
     server.stop().await;
 }

@@ -16,6 +16,7 @@
 //! so they give the same numbers.
 
 mod codec;
+pub mod compression;
 pub mod error;
 pub mod procedures;
 pub mod request;

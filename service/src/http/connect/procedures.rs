@@ -175,13 +175,16 @@ async fn answer(request: Request<Body>, limits: &Limits) -> Result<Response<Body
         message: &read.message,
         limits,
     };
-    let body = procedure(&call)?;
+    let body = read.coding.compress(procedure(&call)?)?;
     let mut response = Response::new(Body::new(http_body_util::Full::new(body)));
     let headers = response.headers_mut();
     headers.insert(
         header::CONTENT_TYPE,
         HeaderValue::from_static(read.codec.content_type()),
     );
+    if let Some(coding) = read.coding.header_value() {
+        headers.insert(header::CONTENT_ENCODING, HeaderValue::from_static(coding));
+    }
     headers.insert(super::GRPC_STATUS, HeaderValue::from_static("0"));
     Ok(response)
 }

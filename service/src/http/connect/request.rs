@@ -12,7 +12,7 @@ use http::{header, HeaderMap, Method, Request};
 use http_body_util::{BodyExt, Limited};
 use tonic::{body::Body, codegen::Bytes, Status};
 
-use super::Codec;
+use super::{compression::Coding, Codec};
 
 /// The request header naming the protocol version.
 pub const PROTOCOL_VERSION_HEADER: &str = "connect-protocol-version";
@@ -25,9 +25,6 @@ pub const TIMEOUT_HEADER: &str = "connect-timeout-ms";
 
 /// Most digits `connect-timeout-ms` may have.
 pub const TIMEOUT_MAX_DIGITS: usize = 10;
-
-/// The only content coding the door reads and writes.
-pub const IDENTITY: &str = "identity";
 
 /// The GET form's query parameters.
 mod query {
@@ -52,8 +49,10 @@ const URL_SAFE_ANY_PADDING: GeneralPurpose = GeneralPurpose::new(
 pub struct UnaryRequest {
     /// The codec of the message (and of the answer).
     pub codec: Codec,
-    /// The message, encoded by `codec`.
+    /// The message, encoded by `codec` (decompressed).
     pub message: Bytes,
+    /// How the request was compressed (and so how the answer is).
+    pub coding: Coding,
 }
 
 /// The `encoding` of a GET form in `query`: `None` when the query has no
@@ -112,12 +111,13 @@ pub async fn read(request: Request<Body>, max_bytes: usize) -> Result<UnaryReque
             )));
         }
     }
-    if let Some(coding) = headers.get(header::CONTENT_ENCODING) {
-        if coding != IDENTITY {
-            return Err(unsupported_compression());
-        }
-    }
-    let message = Limited::new(request.into_body(), max_bytes)
+    let coding = Coding::named(
+        headers
+            .get(header::CONTENT_ENCODING)
+            .and_then(|v| v.to_str().ok())
+            .unwrap_or_default(),
+    )?;
+    let body = Limited::new(request.into_body(), max_bytes)
         .collect()
         .await
         .map_err(|error| {
@@ -128,7 +128,12 @@ pub async fn read(request: Request<Body>, max_bytes: usize) -> Result<UnaryReque
             }
         })?
         .to_bytes();
-    Ok(UnaryRequest { codec, message })
+    let message = coding.decompress(body, max_bytes)?;
+    Ok(UnaryRequest {
+        codec,
+        message,
+        coding,
+    })
 }
 
 /// The GET form: `?encoding=json|proto&message=...[&base64=1]
@@ -168,9 +173,7 @@ fn read_get(query: Option<&str>, max_bytes: usize) -> Result<UnaryRequest, Statu
             query::CONNECT_V1
         )));
     }
-    if compression.is_some_and(|c| c != IDENTITY) {
-        return Err(unsupported_compression());
-    }
+    let coding = Coding::named(compression.as_deref().unwrap_or_default())?;
     let message = if base64 {
         URL_SAFE_ANY_PADDING
             .decode(message.as_bytes())
@@ -185,19 +188,16 @@ fn read_get(query: Option<&str>, max_bytes: usize) -> Result<UnaryRequest, Statu
     if message.len() > max_bytes {
         return Err(too_large(max_bytes));
     }
+    let message = coding.decompress(Bytes::from(message), max_bytes)?;
     Ok(UnaryRequest {
         codec,
-        message: Bytes::from(message),
+        message,
+        coding,
     })
 }
 
-fn unsupported_compression() -> Status {
-    Status::unimplemented(format!(
-        "compressed requests are not supported; the supported encoding is {IDENTITY}"
-    ))
-}
-
-fn too_large(max_bytes: usize) -> Status {
+/// A request over the size limit.
+pub(super) fn too_large(max_bytes: usize) -> Status {
     Status::resource_exhausted(format!(
         "the request message is larger than the limit of {max_bytes} bytes"
     ))
@@ -270,7 +270,7 @@ mod tests {
                 Code::InvalidArgument,
             ),
             (
-                Some("encoding=json&message=%7B%7D&compression=gzip"),
+                Some("encoding=json&message=%7B%7D&compression=br"),
                 Code::Unimplemented,
             ),
             (
