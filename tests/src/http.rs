@@ -147,3 +147,16 @@ where
         body,
     }
 }
+
+/// `text` percent-encoded for a URL query, every byte but the unreserved
+/// ones (RFC 3986 section 2.3), as curl's `--data-urlencode` does.
+pub fn percent_encode(text: &str) -> String {
+    text.bytes()
+        .map(|b| match b {
+            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'.' | b'_' | b'~' => {
+                (b as char).to_string()
+            }
+            _ => format!("%{b:02X}"),
+        })
+        .collect()
+}

@@ -11,7 +11,7 @@ use http::Method;
 use oxbind_service::Config;
 use oxbind_tests::{
     grpc_unary_bytes,
-    http::{connect_post, request, send, Version, VERSIONS},
+    http::{connect_post, percent_encode, request, send, Version, VERSIONS},
     vectors::{descriptor_pool, method, vectors},
     TestServer,
 };
@@ -135,7 +135,7 @@ async fn agree(pool: &DescriptorPool, server: &TestServer, vector: &Value) {
     .await;
     let query = format!(
         "{path}?encoding=json&message={}",
-        form_urlencoded_component(&String::from_utf8(json_request).unwrap())
+        percent_encode(&String::from_utf8(json_request).unwrap())
     );
     let by_get = send(
         server.address(),
@@ -200,18 +200,6 @@ async fn agree(pool: &DescriptorPool, server: &TestServer, vector: &Value) {
             }
         }
     }
-}
-
-/// `text` percent-encoded for a query string (application/x-www-form-urlencoded).
-fn form_urlencoded_component(text: &str) -> String {
-    text.bytes()
-        .map(|b| match b {
-            b'A'..=b'Z' | b'a'..=b'z' | b'0'..=b'9' | b'-' | b'.' | b'_' | b'~' => {
-                (b as char).to_string()
-            }
-            _ => format!("%{b:02X}"),
-        })
-        .collect()
 }
 
 #[tokio::test]
@@ -706,7 +694,7 @@ async fn a_browser_on_an_allowed_origin_may_call_and_others_may_not() {
             Method::GET,
             &format!(
                 "{SATURATION}?encoding=json&message={}",
-                form_urlencoded_component(body)
+                percent_encode(body)
             ),
             &[("origin", ALLOWED)],
             Vec::new(),
