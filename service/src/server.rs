@@ -23,7 +23,7 @@ use oxbind_proto::{
     FILE_DESCRIPTOR_SET,
 };
 use tokio::net::TcpListener;
-use tonic::transport::{server::TcpIncoming, Certificate, Identity, Server, ServerTlsConfig};
+use tonic::transport::{server::TcpIncoming, Server};
 use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::util::option_layer;
 
@@ -131,19 +131,16 @@ where
             ),
         )
     };
-    let tls = tls_config(&config)?;
+    // TLS is done before tonic sees a connection (tls.rs): ALPN offers
+    // HTTP/1.1 as well as HTTP/2.
+    let tls = crate::tls::acceptor(&config).map_err(ServeError::Tls)?;
 
-    let mut builder = Server::builder()
+    let builder = Server::builder()
         .max_concurrent_streams(config.max_concurrent_streams)
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
         // HTTP/1.1 always: the Connect protocol and grpc-web use it.
         .accept_http1(true);
-    if let Some(tls) = tls {
-        builder = builder
-            .tls_config(tls)
-            .map_err(|e| ServeError::Tls(e.to_string()))?;
-    }
     let cors = (config.grpc_web || !config.cors_allowed_origins.is_empty())
         .then(|| web::cors_layer(&config.cors_allowed_origins));
     let grpc_web = config.grpc_web.then(web::grpc_web_layer);
@@ -213,7 +210,7 @@ where
     if let Ok(address) = listener.local_addr() {
         tracing::info!(%address, "serving");
     }
-    let incoming = limited_incoming(listener, config.max_connections);
+    let incoming = crate::tls::incoming(limited_incoming(listener, config.max_connections), tls);
 
     let (drain_started_tx, drain_started_rx) = tokio::sync::oneshot::channel::<()>();
     let drain_reporter = reporter.clone();
@@ -244,22 +241,6 @@ where
     outcome?;
     tracing::info!("stopped");
     Ok(())
-}
-
-/// The TLS configuration `config` asks for: none, TLS, or mutual TLS.
-fn tls_config(config: &Config) -> Result<Option<ServerTlsConfig>, ServeError> {
-    let (Some(cert), Some(key)) = (&config.tls_cert, &config.tls_key) else {
-        return Ok(None);
-    };
-    let read = |flag: &str, path: &std::path::Path| {
-        std::fs::read(path).map_err(|e| ServeError::Tls(format!("{flag} {}: {e}", path.display())))
-    };
-    let identity = Identity::from_pem(read("--tls-cert", cert)?, read("--tls-key", key)?);
-    let mut tls = ServerTlsConfig::new().identity(identity);
-    if let Some(ca) = &config.client_ca {
-        tls = tls.client_ca_root(Certificate::from_pem(read("--client-ca", ca)?));
-    }
-    Ok(Some(tls))
 }
 
 /// Let the graceful drain run for at most `grace`: tonic waits for every open

@@ -130,16 +130,27 @@ async fn call(
 }
 
 #[tokio::test]
-async fn connect_is_served_over_tls_by_http2_and_by_http1_without_alpn() {
+async fn connect_is_served_over_tls_by_http2_and_by_http1_whatever_alpn_offers() {
     let authority = Authority::new("Larchmere Valley Infirmary test CA");
     let server = tls_server("plain", &authority, None).await;
     assert_eq!(
-        call(&server, &authority, &[b"h2"], None, Version::Http2).await,
+        call(
+            &server,
+            &authority,
+            &[b"h2", b"http/1.1"],
+            None,
+            Version::Http2
+        )
+        .await,
         Ok(200)
     );
-    // An HTTP/1.1 client that offers no ALPN protocol is served too. (The
-    // listener's TLS offers only `h2` by ALPN: a client that offers only
-    // `http/1.1` is refused in the handshake.)
+    // A client that speaks only HTTP/1.1 and says so by ALPN (Python's
+    // requests, Node's fetch, .NET's HttpClient do), and one that offers no
+    // ALPN protocol at all.
+    assert_eq!(
+        call(&server, &authority, &[b"http/1.1"], None, Version::Http1).await,
+        Ok(200)
+    );
     assert_eq!(
         call(&server, &authority, &[], None, Version::Http1).await,
         Ok(200)
