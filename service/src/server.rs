@@ -161,7 +161,7 @@ where
         .layer(option_layer(cors))
         // The dispatch: Connect (with its own copy of the per-call layer)
         // and refusals here; gRPC and grpc-web go on below.
-        .layer(DispatchLayer::new(connect))
+        .layer(DispatchLayer::new(connect, config.grpc_web))
         // Only gRPC and grpc-web requests pass this point: a gRPC
         // strictness layer goes here.
         .layer(option_layer(grpc_web))

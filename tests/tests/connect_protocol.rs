@@ -423,6 +423,32 @@ async fn protocol_errors_have_the_protocols_statuses() {
         assert_eq!(answer.status, 415, "{version:?}");
         assert!(answer.header("accept-post").contains("application/json"));
     }
+    // gRPC over HTTP/1.1 (the listener speaks it for Connect): 505; and
+    // grpc-web, which is off by default: 415.
+    let answer = send(
+        address,
+        Version::Http1,
+        request(
+            Method::POST,
+            SATURATION,
+            &[("content-type", "application/grpc")],
+            vec![0; 5],
+        ),
+    )
+    .await;
+    assert_eq!(answer.status, 505);
+    let answer = send(
+        address,
+        Version::Http1,
+        request(
+            Method::POST,
+            SATURATION,
+            &[("content-type", "application/grpc-web")],
+            vec![0; 5],
+        ),
+    )
+    .await;
+    assert_eq!(answer.status, 415);
     // The streaming content type: these RPCs are unary.
     let answer = send(
         address,

@@ -7,7 +7,9 @@
 //!
 //! | request | door |
 //! | --- | --- |
-//! | `content-type: application/grpc*` (gRPC, grpc-web) | on to the gRPC stack |
+//! | `content-type: application/grpc*` over HTTP/2 | on to the gRPC stack |
+//! | `content-type: application/grpc*` over HTTP/1.1 | refused here: 505 (gRPC needs HTTP/2) |
+//! | `content-type: application/grpc-web*` | on to the gRPC stack with `--grpc-web`, else refused: 415 |
 //! | `POST` with `application/json` or `application/proto` | the Connect protocol ([`connect`]) |
 //! | `GET /oxbind.v1.*` (or any `GET` with Connect's `encoding` query) | Connect's GET form |
 //! | anything else for a `/oxbind.v1.` path | refused here: 415, or 405 for a method other than GET and POST |
@@ -27,7 +29,7 @@ use std::{
     task::{Context, Poll},
 };
 
-use http::{header, HeaderMap, HeaderValue, Method, Request, Response, StatusCode};
+use http::{header, HeaderMap, HeaderValue, Method, Request, Response, StatusCode, Version};
 use tonic::body::Body;
 use tower::{Layer, Service, ServiceExt};
 
@@ -54,13 +56,59 @@ pub enum Door {
     Refuse(StatusCode),
 }
 
-/// The door for a request with `method`, `path`, `query` and `headers`.
-pub fn door_for(method: &Method, path: &str, query: Option<&str>, headers: &HeaderMap) -> Door {
+/// What the dispatch knows of the request: its method, HTTP version, path,
+/// query and headers.
+#[derive(Debug, Clone, Copy)]
+pub struct RequestHead<'a> {
+    /// The method.
+    pub method: &'a Method,
+    /// The HTTP version.
+    pub version: Version,
+    /// The path.
+    pub path: &'a str,
+    /// The query, if any.
+    pub query: Option<&'a str>,
+    /// The headers.
+    pub headers: &'a HeaderMap,
+}
+
+impl<'a, B> From<&'a Request<B>> for RequestHead<'a> {
+    fn from(request: &'a Request<B>) -> Self {
+        Self {
+            method: request.method(),
+            version: request.version(),
+            path: request.uri().path(),
+            query: request.uri().query(),
+            headers: request.headers(),
+        }
+    }
+}
+
+/// The door for a request, when grpc-web is served (`grpc_web`) or not.
+pub fn door_for(head: RequestHead<'_>, grpc_web: bool) -> Door {
+    let RequestHead {
+        method,
+        version,
+        path,
+        query,
+        headers,
+    } = head;
     let content_type = headers
         .get(header::CONTENT_TYPE)
         .and_then(|v| v.to_str().ok());
-    if content_type.is_some_and(|t| t.starts_with("application/grpc")) {
-        return Door::Grpc;
+    if let Some(content_type) = content_type.filter(|t| t.starts_with("application/grpc")) {
+        let web = content_type.starts_with("application/grpc-web");
+        return match (web, grpc_web) {
+            // grpc-web without --grpc-web: a content type not served.
+            (true, false) => Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE),
+            (true, true) => Door::Grpc,
+            // gRPC is HTTP/2 only; the listener speaks HTTP/1.1 for the
+            // other doors.
+            (false, _) if version < Version::HTTP_2 => {
+                Door::Refuse(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
+            }
+            (false, _) => Door::Grpc,
+        };
     }
     let v1 = path.starts_with(V1_PATH_PREFIX);
     if method == Method::POST {
@@ -89,28 +137,31 @@ pub fn door_for(method: &Method, path: &str, query: Option<&str>, headers: &Head
 }
 
 /// The answer to a request refused by the dispatch: the status, the header
-/// naming what is accepted, and one plain sentence.
+/// naming what is accepted (if any), and one plain sentence.
 fn refusal(status: StatusCode) -> Response<Body> {
-    let (header_name, accepted, text) = if status == StatusCode::METHOD_NOT_ALLOWED {
-        (
-            header::ALLOW,
-            ALLOWED_METHODS,
+    let (accepted, text) = match status {
+        StatusCode::METHOD_NOT_ALLOWED => (
+            Some((header::ALLOW, ALLOWED_METHODS)),
             "this path answers GET and POST only\n",
-        )
-    } else {
-        (
-            header::HeaderName::from_static("accept-post"),
-            ACCEPTED_CONTENT_TYPES,
+        ),
+        StatusCode::HTTP_VERSION_NOT_SUPPORTED => (
+            None,
+            "gRPC needs HTTP/2; over HTTP/1.1 use the Connect protocol (application/json or application/proto)\n",
+        ),
+        _ => (
+            Some((header::HeaderName::from_static("accept-post"), ACCEPTED_CONTENT_TYPES)),
             "content type not served at this path: send application/json or application/proto \
 (the Connect protocol; GET with ?encoding=json or proto) or application/grpc\n",
-        )
+        ),
     };
     let mut response = Response::new(Body::new(http_body_util::Full::new(
         tonic::codegen::Bytes::from_static(text.as_bytes()),
     )));
     *response.status_mut() = status;
     let headers = response.headers_mut();
-    headers.insert(header_name, HeaderValue::from_static(accepted));
+    if let Some((name, value)) = accepted {
+        headers.insert(name, HeaderValue::from_static(value));
+    }
     headers.insert(
         header::CONTENT_TYPE,
         HeaderValue::from_static("text/plain; charset=utf-8"),
@@ -122,13 +173,15 @@ fn refusal(status: StatusCode) -> Response<Body> {
 #[derive(Debug, Clone)]
 pub struct DispatchLayer<C> {
     connect: C,
+    grpc_web: bool,
 }
 
 impl<C> DispatchLayer<C> {
     /// Send Connect requests to `connect` (the Connect door, with its own
-    /// per-call layer); everything else goes to the wrapped service.
-    pub fn new(connect: C) -> Self {
-        Self { connect }
+    /// per-call layer); gRPC (and grpc-web when `grpc_web` is served) go to
+    /// the wrapped service.
+    pub fn new(connect: C, grpc_web: bool) -> Self {
+        Self { connect, grpc_web }
     }
 }
 
@@ -139,6 +192,7 @@ impl<S, C: Clone> Layer<S> for DispatchLayer<C> {
         Dispatch {
             grpc,
             connect: self.connect.clone(),
+            grpc_web: self.grpc_web,
         }
     }
 }
@@ -148,6 +202,7 @@ impl<S, C: Clone> Layer<S> for DispatchLayer<C> {
 pub struct Dispatch<S, C> {
     grpc: S,
     connect: C,
+    grpc_web: bool,
 }
 
 impl<S, C> Service<Request<Body>> for Dispatch<S, C>
@@ -170,12 +225,7 @@ where
     }
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
-        let door = door_for(
-            request.method(),
-            request.uri().path(),
-            request.uri().query(),
-            request.headers(),
-        );
+        let door = door_for(RequestHead::from(&request), self.grpc_web);
         match door {
             Door::Grpc => {
                 // Take the service that was driven to readiness; leave a clone.
@@ -209,12 +259,25 @@ mod tests {
     use super::*;
 
     fn door(method: Method, target: &str, content_type: Option<&'static str>) -> Door {
-        let uri: http::Uri = target.parse().unwrap();
-        let mut headers = HeaderMap::new();
+        door_over(Version::HTTP_2, true, method, target, content_type)
+    }
+
+    fn door_over(
+        version: Version,
+        grpc_web: bool,
+        method: Method,
+        target: &str,
+        content_type: Option<&'static str>,
+    ) -> Door {
+        let mut request = Request::builder()
+            .method(method)
+            .uri(target)
+            .version(version);
         if let Some(value) = content_type {
-            headers.insert(header::CONTENT_TYPE, HeaderValue::from_static(value));
+            request = request.header(header::CONTENT_TYPE, value);
         }
-        door_for(&method, uri.path(), uri.query(), &headers)
+        let request = request.body(()).unwrap();
+        door_for(RequestHead::from(&request), grpc_web)
     }
 
     const SATURATION: &str = "/oxbind.v1.DissociationService/SaturationFromTension";
@@ -240,6 +303,51 @@ mod tests {
                 Door::Grpc
             );
         }
+    }
+
+    #[test]
+    fn grpc_web_without_the_flag_and_grpc_over_http1_are_refused() {
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                false,
+                Method::POST,
+                SATURATION,
+                Some("application/grpc-web+proto")
+            ),
+            Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE)
+        );
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                true,
+                Method::POST,
+                SATURATION,
+                Some("application/grpc-web+proto")
+            ),
+            Door::Grpc
+        );
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                true,
+                Method::POST,
+                SATURATION,
+                Some("application/grpc")
+            ),
+            Door::Refuse(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
+        );
+        // Connect over HTTP/1.1 is served with or without grpc-web.
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                false,
+                Method::POST,
+                SATURATION,
+                Some("application/json")
+            ),
+            Door::Connect
+        );
     }
 
     #[test]

@@ -138,6 +138,7 @@ where
         let method = method_name(path);
         let is_health = path.starts_with(HEALTH_PATH_PREFIX);
         let request_id = request_id_of(request.headers());
+        let system = rpc_system(request.headers());
         let timeout = parse_grpc_timeout(request.headers()).map_or(self.shared.call_timeout, |t| {
             t.min(self.shared.call_timeout)
         });
@@ -152,7 +153,7 @@ where
                 "grpc.call",
                 otel.name = method,
                 otel.kind = "server",
-                rpc.system.name = "grpc",
+                rpc.system.name = system,
                 rpc.method = method,
                 rpc.status_code = Empty,
                 request_id = %request_id,
@@ -176,6 +177,7 @@ where
                     let record = CallRecord {
                         start,
                         method,
+                        system,
                         request_id,
                         trace_id,
                         span,
@@ -194,6 +196,7 @@ where
         let mut record = CallRecord {
             start,
             method,
+            system,
             request_id,
             trace_id,
             span: span.clone(),
@@ -229,6 +232,7 @@ where
 struct CallRecord {
     start: Instant,
     method: &'static str,
+    system: &'static str,
     request_id: String,
     trace_id: TraceId,
     span: Span,
@@ -271,7 +275,7 @@ impl Drop for CallRecord {
             self.span.set_attribute("error.type", name);
         }
         let attributes = [
-            KeyValue::new("rpc.system.name", "grpc"),
+            KeyValue::new("rpc.system.name", self.system),
             KeyValue::new("rpc.method", self.method),
             KeyValue::new("rpc.status_code", name),
         ];
@@ -430,6 +434,21 @@ pub fn method_name(path: &str) -> &'static str {
         .unwrap_or(OTHER_METHOD)
 }
 
+/// `rpc.system.name` of a call (OpenTelemetry RPC semantic conventions):
+/// `grpc` for gRPC and grpc-web, `connect_rpc` for the Connect protocol
+/// (the only other door this layer wraps).
+pub fn rpc_system(headers: &HeaderMap) -> &'static str {
+    let grpc = headers
+        .get(http::header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|t| t.starts_with("application/grpc"));
+    if grpc {
+        "grpc"
+    } else {
+        "connect_rpc"
+    }
+}
+
 /// The caller's request id if it is short and made only of letters, digits
 /// and `-_.:`; otherwise a fresh UUID (the caller's value is dropped, so an
 /// odd header can never carry anything into the logs).
@@ -558,6 +577,23 @@ mod tests {
         map.insert("x-request-id", HeaderValue::from_str(&long).unwrap());
         assert_eq!(request_id_of(&map).len(), 36);
         assert_eq!(request_id_of(&HeaderMap::new()).len(), 36);
+    }
+
+    #[test]
+    fn grpc_and_grpc_web_calls_are_grpc_and_the_rest_connect() {
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/grpc")])),
+            "grpc"
+        );
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/grpc-web+proto")])),
+            "grpc"
+        );
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/json")])),
+            "connect_rpc"
+        );
+        assert_eq!(rpc_system(&HeaderMap::new()), "connect_rpc");
     }
 
     #[test]
