@@ -29,7 +29,7 @@ pub mod google {
     /// `google.rpc`: `Status` (a batch item's error, and the rich error of a
     /// refused call) and the error details (`BadRequest`, `ErrorInfo`, ...),
     /// generated from the vendored `proto/google/rpc/*.proto`.
-    #[allow(missing_docs, unreachable_pub, clippy::all)]
+    #[allow(missing_docs, unreachable_pub, clippy::all, rustdoc::invalid_html_tags)]
     pub mod rpc {
         tonic::include_proto!("google.rpc");
         include!(concat!(env!("OUT_DIR"), "/google.rpc.serde.rs"));

@@ -12,7 +12,7 @@ use tower_http::cors::{AllowOrigin, CorsLayer};
 pub const PREFLIGHT_MAX_AGE: Duration = Duration::from_secs(3600);
 
 /// Request headers a grpc-web or Connect caller may send (Connect's from
-/// https://connectrpc.com/docs/cors).
+/// <https://connectrpc.com/docs/cors>).
 const ALLOWED_HEADERS: [&str; 10] = [
     "content-type",
     "x-grpc-web",

@@ -10,7 +10,7 @@
 //! `value` (the binary message, base64 without padding) and its `debug` JSON
 //! form, so a curl user reads the field path (Connect protocol reference,
 //! "Error Codes" and "Error and EndStreamResponse",
-//! https://connectrpc.com/docs/protocol).
+//! <https://connectrpc.com/docs/protocol>).
 
 use base64::Engine as _;
 use http::{header, HeaderValue, Response, StatusCode};

@@ -1,4 +1,4 @@
-//! The Connect protocol's unary RPCs (https://connectrpc.com/docs/protocol):
+//! The Connect protocol's unary RPCs (<https://connectrpc.com/docs/protocol>):
 //! every v1 RPC as `POST /oxbind.v1.<Service>/<Method>` with an
 //! `application/json` (proto3 JSON mapping) or `application/proto` body, and
 //! as the GET form `?encoding=json&message=...`, over HTTP/1.1 and HTTP/2,

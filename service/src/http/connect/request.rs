@@ -1,7 +1,7 @@
 //! Reading a Connect unary request: the codec and the message's bytes, from
 //! a POST body or from the GET form's query, after the protocol's headers
 //! and parameters are checked (Connect protocol reference, "Unary-Request"
-//! and "Unary-Get-Request", https://connectrpc.com/docs/protocol).
+//! and "Unary-Get-Request", <https://connectrpc.com/docs/protocol>).
 
 use base64::{
     alphabet,
