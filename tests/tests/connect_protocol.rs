@@ -347,7 +347,10 @@ async fn malformed_bodies_are_refused_naming_the_field() {
     let server = TestServer::start().await;
     let cases = [
         (r#"{"po2":{"value":"sixty","unit":"mm[Hg]"}}"#, "po2.value"),
-        (r#"{"po2":{"value":60,"unit":"mm[Hg]"},"pH":7.4}"#, "pH"),
+        // An unknown key: the refusal names the message holding it (here
+        // the request itself) and, in its text, the key.
+        (r#"{"po2":{"value":60,"unit":"mm[Hg]"},"pH":7.4}"#, ""),
+        (r#"{"po2":{"value":60,"unit":"mm[Hg]","Unit":"x"}}"#, "po2"),
         (
             r#"{"po2":{"value":60,"unit":"mm[Hg]"},"model":"MODEL_NO_SUCH"}"#,
             "model",
@@ -364,7 +367,12 @@ async fn malformed_bodies_are_refused_naming_the_field() {
         let error = answer.json();
         assert_eq!(error["code"], "invalid_argument");
         let violation = &error["details"][0]["debug"]["fieldViolations"][0];
-        assert_eq!(violation["field"], field, "{error}");
+        // An empty field is left out of the JSON form.
+        assert_eq!(
+            violation["field"].as_str().unwrap_or_default(),
+            field,
+            "{error}"
+        );
         assert_eq!(violation["reason"], "MESSAGE_NOT_DECODABLE");
         assert!(
             !error.to_string().contains("sixty"),

@@ -111,20 +111,21 @@ fn json_refusal(json_path: &str, inner: &serde_json::Error) -> Status {
     let text = inner.to_string();
     let mut field = proto_path(json_path);
     let description = if let Some(name) = unknown_field(&text) {
-        // The path ends with the unknown key; keep it as the caller wrote
-        // it (it is no field, so it has no snake_case name).
+        // The path ends with the unknown key. The refusal names the message
+        // that holds it (a field of the contract, so refused field paths,
+        // which are counted in a metric, stay a bounded set); the text
+        // names the key as the caller wrote it.
         let parent = json_path
             .strip_suffix(name)
             .map(|p| p.trim_end_matches('.'))
             .unwrap_or(json_path);
         field = proto_path(parent);
-        if !field.is_empty() {
-            field.push('.');
-        }
-        field.push_str(name);
-        format!(
-            "{field} is not a field of this message ({position}); field names are case-sensitive"
-        )
+        let holder = if field.is_empty() {
+            "the request".to_owned()
+        } else {
+            field.clone()
+        };
+        format!("`{name}` is not a field of {holder} ({position}); field names are case-sensitive")
     } else if text.starts_with("unknown variant") {
         format!("{field} is not a known value of its enum ({position}); enums are written by name")
     } else {
@@ -248,8 +249,11 @@ mod tests {
         assert_eq!(field, "po2.value");
         assert!(!description.contains("sixty"), "{description}");
         let (field, description) = refused_field(r#"{"po2":{"value":60},"conditions":{"pH":7.4}}"#);
-        assert_eq!(field, "conditions.pH");
-        assert!(description.contains("not a field"), "{description}");
+        assert_eq!(field, "conditions");
+        assert!(
+            description.starts_with("`pH` is not a field of conditions"),
+            "{description}"
+        );
         let (field, _) = refused_field(r#"{"model":"MODEL_NONE_SUCH"}"#);
         assert_eq!(field, "model");
         let (field, description) = refused_field(r#"{"po2":"#);
