@@ -63,6 +63,9 @@ echo "${#manifests[@]} manifests valid"
 step "interop (an independent Python grpcio client)"
 bash tests/interop/run.sh
 
+step "Connect (the official Connect client for Python, connectrpc)"
+bash tests/connect/run.sh
+
 step "FHIR answers validated independently (fhirclient, R4 JSON Schema, FHIRPath)"
 bash tests/fhir/run.sh
 

@@ -1,7 +1,16 @@
-//! Start-up and shutdown: the gRPC server on an already-bound listener.
+//! Start-up and shutdown: the server on an already-bound listener.
 //!
 //! [`serve`] takes the listener and any shutdown future, so the binary passes a
 //! real socket and the OS signals, and tests pass port 0 and a oneshot.
+//!
+//! The main listener serves gRPC, grpc-web (behind a flag), the Connect
+//! protocol and the FHIR R4 door, over HTTP/2 and HTTP/1.1. Each request
+//! passes, outermost first: CORS (when origins are configured), the door
+//! dispatch ([`crate::http::DispatchLayer`]: FHIR by path, Connect by
+//! content type, refusals for v1 paths), then, for gRPC and grpc-web only,
+//! grpc-web translation, the per-call layer and the tonic routes. The
+//! Connect and FHIR doors each have their own copy of the same per-call
+//! layer (one shared call limit).
 
 use std::{future::Future, time::Duration};
 
@@ -15,14 +24,14 @@ use oxbind_proto::{
     FILE_DESCRIPTOR_SET,
 };
 use tokio::net::TcpListener;
-use tonic::transport::{server::TcpIncoming, Certificate, Identity, Server, ServerTlsConfig};
+use tonic::transport::{server::TcpIncoming, Server};
 use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::util::option_layer;
 
 use crate::{
-    api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
-    http::fhir::door::FhirLayer,
+    grpc::{CatalogApi, DissociationApi, TransportApi},
+    http::{connect, fhir, DispatchLayer},
     layers::{call::CallLayer, connections::limited_incoming, web},
 };
 
@@ -123,37 +132,41 @@ where
             ),
         )
     };
-    let tls = tls_config(&config)?;
+    // TLS is done before tonic sees a connection (tls.rs): ALPN offers
+    // HTTP/1.1 as well as HTTP/2.
+    let tls = crate::tls::acceptor(&config).map_err(ServeError::Tls)?;
 
-    let mut builder = Server::builder()
+    let builder = Server::builder()
         .max_concurrent_streams(config.max_concurrent_streams)
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        // HTTP/1.1 always: the FHIR door (and grpc-web) use it; without
-        // grpc-web the FHIR layer answers other HTTP/1.1 requests 505.
+        // HTTP/1.1 always: the Connect protocol and grpc-web use it.
         .accept_http1(true);
-    if let Some(tls) = tls {
-        builder = builder
-            .tls_config(tls)
-            .map_err(|e| ServeError::Tls(e.to_string()))?;
-    }
-    let cors = config
-        .grpc_web
+    let cors = (config.grpc_web || !config.cors_allowed_origins.is_empty())
         .then(|| web::cors_layer(&config.cors_allowed_origins));
     let grpc_web = config.grpc_web.then(web::grpc_web_layer);
     let decode = config.max_decoded_message_bytes;
     let encode = config.max_encoded_message_bytes;
-
-    // One per-call layer (one call limit) for gRPC and the FHIR door.
+    // One per-call layer (one call limit) for both stacks below.
     let call_layer = CallLayer::new(config.max_concurrent_calls, config.call_timeout);
+    let connect = connect::door(
+        &call_layer,
+        connect::Limits {
+            max_batch_items: config.max_batch_items,
+            max_request_bytes: decode,
+            max_response_bytes: encode,
+        },
+    );
+    // The FHIR R4 door under /fhir/r4, with its own copy of the same layer.
+    let fhir = fhir::door::door(&call_layer, decode);
 
     let router = builder
-        // The FHIR R4 door (issue 12), wired here until the Connect
-        // dispatch (issue 17) gives the listener its non-gRPC routing:
-        // requests under /fhir/r4 go through their own copy of the per-call
-        // layer to http::fhir; everything else goes on to the gRPC stack.
-        .layer(FhirLayer::new(&call_layer, decode, config.grpc_web))
         .layer(option_layer(cors))
+        // The dispatch: FHIR and Connect (each with its own copy of the
+        // per-call layer) and refusals here; gRPC and grpc-web go on below.
+        .layer(DispatchLayer::new(connect, fhir, config.grpc_web))
+        // Only gRPC and grpc-web requests pass this point: a gRPC
+        // strictness layer goes here.
         .layer(option_layer(grpc_web))
         .layer(call_layer)
         .add_service(health_service.clone())
@@ -200,7 +213,7 @@ where
     if let Ok(address) = listener.local_addr() {
         tracing::info!(%address, "serving");
     }
-    let incoming = limited_incoming(listener, config.max_connections);
+    let incoming = crate::tls::incoming(limited_incoming(listener, config.max_connections), tls);
 
     let (drain_started_tx, drain_started_rx) = tokio::sync::oneshot::channel::<()>();
     let drain_reporter = reporter.clone();
@@ -231,22 +244,6 @@ where
     outcome?;
     tracing::info!("stopped");
     Ok(())
-}
-
-/// The TLS configuration `config` asks for: none, TLS, or mutual TLS.
-fn tls_config(config: &Config) -> Result<Option<ServerTlsConfig>, ServeError> {
-    let (Some(cert), Some(key)) = (&config.tls_cert, &config.tls_key) else {
-        return Ok(None);
-    };
-    let read = |flag: &str, path: &std::path::Path| {
-        std::fs::read(path).map_err(|e| ServeError::Tls(format!("{flag} {}: {e}", path.display())))
-    };
-    let identity = Identity::from_pem(read("--tls-cert", cert)?, read("--tls-key", key)?);
-    let mut tls = ServerTlsConfig::new().identity(identity);
-    if let Some(ca) = &config.client_ca {
-        tls = tls.client_ca_root(Certificate::from_pem(read("--client-ca", ca)?));
-    }
-    Ok(Some(tls))
 }
 
 /// Let the graceful drain run for at most `grace`: tonic waits for every open

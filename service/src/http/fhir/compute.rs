@@ -38,7 +38,6 @@ use crate::{
             compute_correct_for_temperature, compute_estimate_p50, compute_saturation_from_tension,
             compute_shift_factors,
         },
-        observe,
         status::InvalidRequest,
         transport::{compute_gas_exchange, compute_oxygen_content},
         units::{self, QuantityKind},
@@ -473,14 +472,15 @@ impl Work<'_> {
         inputs: Vec<usize>,
         map: &FieldMap,
     ) -> usize {
-        observe::result(provenance, warnings);
+        // The api function has already left its model and warning codes in
+        // telemetry, as for every door.
         if let Some(time) = provenance.and_then(|p| p.compute_time) {
             let later = match &self.out.compute_time {
                 Some(t) => (time.seconds, time.nanos) > (t.seconds, t.nanos),
                 None => true,
             };
             if later {
-                self.out.compute_time = Some(time);
+                self.out.compute_time = Some(time.into());
             }
         }
         let warnings: Vec<CallWarning> = warnings

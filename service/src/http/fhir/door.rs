@@ -1,9 +1,10 @@
-//! The FHIR door on the main listener: [`FhirLayer`] sends every request
-//! under [`super::BASE_PATH`] through its own copy of the per-call layer
-//! (request id, span, deadline, load shedding, metrics and the call's log
-//! line, sharing the server's call limit) to [`super::handle`], and
-//! everything else on to the gRPC stack. TLS, mutual TLS and the connection
-//! limits are the listener's, so they are the same as for gRPC.
+//! The FHIR door on the main listener: the dispatch
+//! ([`crate::http::DispatchLayer`]) sends every request under
+//! [`super::BASE_PATH`] to [`FhirDoor`], which runs it through its own copy
+//! of the per-call layer (request id, span, deadline, load shedding, metrics
+//! and the call's log line, sharing the server's call limit) to
+//! [`super::handle`]. TLS, mutual TLS and the connection limits are the
+//! listener's, so they are the same as for gRPC.
 //!
 //! The per-call layer reads a `grpc-status`: the door sets one from the
 //! HTTP status for it and removes it at the edge, and turns the layer's own
@@ -26,10 +27,12 @@ use super::{
     outcome::{error, issue_type, Refusal},
     FhirRequest, FhirResponse, BASE_PATH, RESPONSE_CONTENT_TYPE,
 };
-use crate::layers::call::{CallLayer, CallService};
 
 /// The gRPC status header the per-call layer reads.
 const GRPC_STATUS: HeaderName = HeaderName::from_static("grpc-status");
+
+/// The gRPC timeout header the per-call layer reads.
+const GRPC_TIMEOUT: HeaderName = HeaderName::from_static("grpc-timeout");
 
 /// Whether `path` is under [`BASE_PATH`].
 pub fn is_fhir_path(path: &str) -> bool {
@@ -39,91 +42,51 @@ pub fn is_fhir_path(path: &str) -> bool {
             .is_some_and(|rest| rest.starts_with('/'))
 }
 
-/// The layer that puts the FHIR door in front of the gRPC stack.
-#[derive(Debug, Clone)]
-pub struct FhirLayer {
-    endpoint: CallService<Endpoint>,
-    http1_beyond_fhir: bool,
-}
-
-impl FhirLayer {
-    /// The door with `call_layer` around it, reading bodies of at most
-    /// `max_request_bytes`. The listener speaks HTTP/1.1 for the door; other
-    /// HTTP/1.1 requests go on only when `http1_beyond_fhir` (grpc-web is
-    /// on), and are otherwise answered 505, as before the door.
-    pub fn new(call_layer: &CallLayer, max_request_bytes: usize, http1_beyond_fhir: bool) -> Self {
-        Self {
-            endpoint: call_layer.layer(Endpoint { max_request_bytes }),
-            http1_beyond_fhir,
-        }
-    }
-}
-
-impl<S> Layer<S> for FhirLayer {
-    type Service = FhirRouter<S>;
-
-    fn layer(&self, grpc: S) -> Self::Service {
-        FhirRouter {
-            grpc,
-            fhir: self.endpoint.clone(),
-            http1_beyond_fhir: self.http1_beyond_fhir,
-        }
-    }
-}
-
-/// The service [`FhirLayer`] makes.
-#[derive(Debug, Clone)]
-pub struct FhirRouter<S> {
-    grpc: S,
-    fhir: CallService<Endpoint>,
-    http1_beyond_fhir: bool,
-}
-
-impl<S> Service<Request<Body>> for FhirRouter<S>
+/// The FHIR door around `call_layer`'s per-call service, reading bodies of
+/// at most `max_request_bytes`; the dispatch ([`crate::http::DispatchLayer`])
+/// sends it every request under [`BASE_PATH`].
+pub fn door<L>(call_layer: &L, max_request_bytes: usize) -> FhirDoor<L::Service>
 where
-    S: Service<Request<Body>, Response = Response<Body>> + Clone + Send + 'static,
+    L: Layer<Endpoint>,
+{
+    FhirDoor {
+        inner: call_layer.layer(Endpoint { max_request_bytes }),
+    }
+}
+
+/// The edge of the FHIR door (see the module documentation).
+#[derive(Debug, Clone)]
+pub struct FhirDoor<S> {
+    inner: S,
+}
+
+impl<S> Service<Request<Body>> for FhirDoor<S>
+where
+    S: Service<Request<Body>, Response = Response<Body>, Error = Infallible>
+        + Clone
+        + Send
+        + 'static,
     S::Future: Send + 'static,
-    S::Error: Send + 'static,
 {
     type Response = Response<Body>;
-    type Error = S::Error;
-    type Future = Pin<Box<dyn Future<Output = Result<Response<Body>, S::Error>> + Send>>;
+    type Error = Infallible;
+    type Future = Pin<Box<dyn Future<Output = Result<Response<Body>, Infallible>> + Send>>;
 
-    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
-        self.grpc.poll_ready(cx)
+    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Infallible>> {
+        self.inner.poll_ready(cx)
     }
 
-    fn call(&mut self, request: Request<Body>) -> Self::Future {
-        let http1 = request.version() < http::Version::HTTP_2;
-        if !is_fhir_path(request.uri().path()) && http1 && !self.http1_beyond_fhir {
-            return Box::pin(std::future::ready(Ok(http1_not_served())));
-        }
-        if !is_fhir_path(request.uri().path()) {
-            let clone = self.grpc.clone();
-            let mut grpc = std::mem::replace(&mut self.grpc, clone);
-            return Box::pin(grpc.call(request));
-        }
-        let mut fhir = self.fhir.clone();
+    fn call(&mut self, mut request: Request<Body>) -> Self::Future {
+        // The deadline is the server's call timeout: FHIR has no timeout
+        // header, so a caller's `grpc-timeout` is not honoured here.
+        request.headers_mut().remove(GRPC_TIMEOUT);
+        let clone = self.inner.clone();
+        let mut inner = std::mem::replace(&mut self.inner, clone);
         Box::pin(async move {
-            let response = match fhir.call(request).await {
-                Ok(response) => response,
-                Err(never) => match never {},
-            };
+            let response = inner.call(request).await?;
             Ok(at_the_edge(response))
         })
     }
-}
-
-/// The answer to an HTTP/1.1 request for the gRPC stack without grpc-web.
-fn http1_not_served() -> Response<Body> {
-    let text = "gRPC is served over HTTP/2; grpc-web over HTTP/1.1 needs --grpc-web\n";
-    let mut response = Response::new(Body::new(Full::new(Bytes::from_static(text.as_bytes()))));
-    *response.status_mut() = StatusCode::HTTP_VERSION_NOT_SUPPORTED;
-    response.headers_mut().insert(
-        header::CONTENT_TYPE,
-        HeaderValue::from_static("text/plain; charset=utf-8"),
-    );
-    response
 }
 
 /// Remove the door's `grpc-status`, or turn an answer of the per-call layer
