@@ -30,4 +30,5 @@ pub mod siggaard_andersen;
 pub mod solver;
 pub mod temperature;
 pub mod tolerance;
+pub mod uncertainty;
 pub mod units;
