@@ -122,13 +122,8 @@ pub fn interval_from_unsorted(values: &mut [f64], p: f64, kind: IntervalKind) ->
 
 /// r of the probabilistically symmetric interval (1-based).
 fn symmetric_start(m: usize, q: usize) -> usize {
-    let rest = m - q;
-    (if rest % 2 == 0 {
-        rest / 2
-    } else {
-        (rest + 1) / 2
-    })
-    .max(1)
+    // (M − q)/2 when M − q is even, (M − q + 1)/2 when odd: the ceiling of half.
+    (m - q).div_ceil(2).max(1)
 }
 
 /// r of the shortest interval (1-based; the first r of least length), given
