@@ -781,3 +781,20 @@ fn bad_requests_are_refused_naming_the_input() {
     ));
     assert!(hopeless.to_string().contains("outside"));
 }
+
+#[test]
+fn a_mistaken_profile_for_a_quantity_that_is_not_an_input_is_still_refused() {
+    let f = ImputedPao2::new(0.9).unwrap();
+    let e = evaluate_uncertainty(
+        &f,
+        &UncertaintyRequest {
+            figures: vec![InputFigure {
+                input: InputQuantity::Hemoglobin,
+                source: FigureSource::Profile("no-such-profile".to_owned()),
+            }],
+            ..UncertaintyRequest::default()
+        },
+    )
+    .unwrap_err();
+    assert!(e.to_string().contains("hemoglobin"));
+}

@@ -48,8 +48,9 @@ impl CurveSetting {
     /// honours.
     pub(crate) fn new(model: Model, conditions: Conditions, slots: &mut Vec<Slot>) -> CurveSetting {
         let unmodelled = model.unmodelled_conditions(&conditions);
-        let mut condition_slots = Vec::new();
-        for condition in conditions.given() {
+        let given = conditions.given();
+        let mut condition_slots = Vec::with_capacity(given.len());
+        for condition in given {
             if unmodelled.contains(condition) {
                 continue;
             }
@@ -185,7 +186,8 @@ impl SaturationFromTension {
         conditions: Conditions,
     ) -> Result<SaturationFromTension, PhysiologyError> {
         model.saturation(po2_mmhg, &conditions)?;
-        let mut slots = vec![Slot::new(InputQuantity::Po2, po2_mmhg)];
+        let mut slots = Vec::with_capacity(1 + Condition::ALL.len());
+        slots.push(Slot::new(InputQuantity::Po2, po2_mmhg));
         let curve = CurveSetting::new(model, conditions, &mut slots);
         Ok(SaturationFromTension { curve, slots })
     }

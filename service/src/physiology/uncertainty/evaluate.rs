@@ -544,6 +544,16 @@ fn resolve_figures<F: MeasurementFunction + ?Sized>(
             });
         }
     }
+    // Every figure is checked, also those for quantities that turn out not to
+    // be inputs here, so that a mistake is refused rather than ignored.
+    for figure in &request.figures {
+        match &figure.source {
+            FigureSource::Stated(statement) => statement.check(figure.input)?,
+            FigureSource::Profile(id) => {
+                profile_for(figure.input, id)?;
+            }
+        }
+    }
     let slots = f.slots();
     let mut slot_figures = Vec::with_capacity(slots.len());
     let mut not_considered = Vec::new();
@@ -558,17 +568,7 @@ fn resolve_figures<F: MeasurementFunction + ?Sized>(
                 source: FigureSource::Profile(id),
                 input,
             }) => {
-                let p = profile(id)?.ok_or_else(|| UncertaintyError::UnknownProfile {
-                    input: *input,
-                    id: id.clone(),
-                })?;
-                if p.input != *input {
-                    return Err(UncertaintyError::ProfileForAnotherInput {
-                        input: *input,
-                        id: id.clone(),
-                        profile_input: p.input,
-                    });
-                }
+                let p = profile_for(*input, id)?;
                 (
                     Some(p.statement),
                     UsedSource::Profile {
@@ -619,9 +619,6 @@ fn resolve_figures<F: MeasurementFunction + ?Sized>(
     }
     for figure in &request.figures {
         if !slots.iter().any(|s| s.quantity == figure.input) {
-            if let FigureSource::Stated(statement) = &figure.source {
-                statement.check(figure.input)?;
-            }
             not_considered.push(NotConsidered {
                 input: figure.input,
                 reason: NotConsideredReason::Absent(f.absent_reason(figure.input)),
@@ -632,6 +629,25 @@ fn resolve_figures<F: MeasurementFunction + ?Sized>(
         slot_figures,
         not_considered,
     })
+}
+
+/// The built-in profile `id`, which must be a figure for `input`.
+fn profile_for(
+    input: InputQuantity,
+    id: &str,
+) -> Result<&'static super::profiles::Profile, UncertaintyError> {
+    let p = profile(id)?.ok_or_else(|| UncertaintyError::UnknownProfile {
+        input,
+        id: id.to_owned(),
+    })?;
+    if p.input != input {
+        return Err(UncertaintyError::ProfileForAnotherInput {
+            input,
+            id: id.to_owned(),
+            profile_input: p.input,
+        });
+    }
+    Ok(p)
 }
 
 fn warnings(

@@ -40,8 +40,9 @@ pub fn min_draws(coverage_probability: f64) -> usize {
     (100.0 / (1.0 - coverage_probability)).ceil() as usize
 }
 
-/// A run is abandoned when more draws are rejected than kept: the stated
-/// distributions then put most of their mass outside what the inputs can be.
+/// A run is abandoned once more draws have been rejected than this many times
+/// the draws asked for: the stated distributions then put most of their mass
+/// outside what the inputs can be.
 pub const MAX_REJECTED_PER_KEPT: usize = 1;
 
 /// The caller's Monte Carlo settings.
@@ -287,7 +288,7 @@ pub fn propagate<F: MeasurementFunction + ?Sized>(
     }
     let (mean, standard_uncertainty) = mean_and_standard_deviation(&values);
     let stability = block_stability(
-        &mut values,
+        &values,
         coverage_probability,
         significant_digits,
         options.interval,
@@ -332,8 +333,8 @@ pub fn mean_and_standard_deviation(values: &[f64]) -> (f64, f64) {
     (mean, (squares / (m - 1.0)).sqrt())
 }
 
-/// Split the draws into blocks of [`BLOCK_DRAWS`] (reordered in place within
-/// each block), and compare the spread of the block results with the numerical tolerance.
+/// Split the draws into blocks of [`BLOCK_DRAWS`] in draw order (each copied
+/// into one scratch buffer for its interval), and compare the spread of the block results with the numerical tolerance.
 ///
 /// # Formula
 ///
@@ -345,7 +346,7 @@ pub fn mean_and_standard_deviation(values: &[f64]) -> (f64, f64) {
 /// JCGM 101:2008 clause 7.9.4 (the adaptive procedure's stopping rule, used
 /// here as a check of a run of fixed length).
 fn block_stability(
-    values: &mut [f64],
+    values: &[f64],
     p: f64,
     significant_digits: u8,
     kind: IntervalKind,
@@ -356,9 +357,12 @@ fn block_stability(
         return None;
     }
     let mut stats = Vec::with_capacity(blocks);
-    for block in values.chunks_mut(BLOCK_DRAWS).take(blocks) {
+    let mut scratch = Vec::with_capacity(BLOCK_DRAWS);
+    for block in values.chunks(BLOCK_DRAWS).take(blocks) {
         let (mean, sd) = mean_and_standard_deviation(block);
-        let interval = interval_from_unsorted(block, p, kind);
+        scratch.clear();
+        scratch.extend_from_slice(block);
+        let interval = interval_from_unsorted(&mut scratch, p, kind);
         stats.push([mean, sd, interval.low, interval.high]);
     }
     let h = blocks as f64;

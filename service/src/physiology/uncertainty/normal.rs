@@ -7,10 +7,20 @@ use std::f64::consts::{FRAC_1_SQRT_2, PI};
 /// erfc(1) = 0.157); at and above it by the continued fraction.
 const ERFC_CONTINUED_FRACTION_FROM: f64 = 1.0;
 
-/// Terms of the continued fraction evaluated (backwards). 200 terms reach
-/// double precision at z = 1 and beyond (checked against the Python 3
-/// standard library's `math.erfc`, worst relative difference 2e-16).
-const ERFC_CONTINUED_FRACTION_TERMS: u32 = 200;
+/// Terms of the continued fraction evaluated (backwards) at z: 300/z² + 20,
+/// at most 200. It converges faster the larger z is; these counts reach double
+/// precision from z = 1 on (checked against the Python 3 standard library's
+/// `math.erfc`: 200 terms at z = 1, 100 at 1.5, 60 at 2 and 40 at 3 all agree
+/// to 2e-16).
+fn continued_fraction_terms(z: f64) -> u32 {
+    (300.0 / (z * z) + 20.0).min(200.0) as u32
+}
+
+/// The two-sided 95 % coverage factor Φ⁻¹(0.975), asked for on every
+/// evaluation and so kept as a constant (the general inverse costs about a
+/// microsecond). Equal to [`standard_normal_quantile`]`(0.975)` (tested) and
+/// to Python 3's `statistics.NormalDist().inv_cdf(0.975)` = 1.9599639845400536.
+pub const NORMAL_COVERAGE_FACTOR_95: f64 = 1.959_963_984_540_053_6;
 
 /// Newton steps of the inverse after the starting approximation (each at
 /// least doubles the correct digits; four from a start good to 4.5e-4 are
@@ -50,7 +60,7 @@ fn erf_series(z: f64) -> f64 {
 /// Abramowitz & Stegun 1964, 7.1.14 (equation number from memory).
 fn erfc_continued_fraction(z: f64) -> f64 {
     let mut f = z;
-    for k in (1..=ERFC_CONTINUED_FRACTION_TERMS).rev() {
+    for k in (1..=continued_fraction_terms(z)).rev() {
         f = z + (f64::from(k) / 2.0) / f;
     }
     (-z * z).exp() / PI.sqrt() / f
@@ -133,6 +143,9 @@ pub fn standard_normal_quantile(p: f64) -> f64 {
 /// The coverage factor k of a normal distribution for a two-sided coverage
 /// probability p: k = Φ⁻¹((1 + p)/2) (1.959964 for 95 %).
 pub fn normal_coverage_factor(coverage_probability: f64) -> f64 {
+    if coverage_probability == 0.95 {
+        return NORMAL_COVERAGE_FACTOR_95;
+    }
     standard_normal_quantile(0.5 * (1.0 + coverage_probability))
 }
 
@@ -179,6 +192,9 @@ mod tests {
             );
         }
         assert!(standard_normal_quantile(1.5).is_nan());
+        assert!((standard_normal_quantile(0.975) - NORMAL_COVERAGE_FACTOR_95).abs() <= 4e-16);
+        assert_eq!(normal_coverage_factor(0.95), NORMAL_COVERAGE_FACTOR_95);
+        assert!((normal_coverage_factor(0.99) - 2.575_829_303_548_9).abs() < 1e-12);
         assert_eq!(standard_normal_quantile(0.0), f64::NEG_INFINITY);
     }
 
