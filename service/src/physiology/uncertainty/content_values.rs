@@ -536,6 +536,18 @@ impl MeasurementFunction for OxygenContentValue {
                     "the venous saturation is fractional, so dyshaemoglobins do not enter its content",
                 )
             }
+            InputQuantity::Cohb if self.inputs.arterial.cohb_fraction.is_none() => {
+                AbsentReason::ValueNotGiven
+            }
+            InputQuantity::Methb if self.inputs.arterial.methb_fraction.is_none() => {
+                AbsentReason::ValueNotGiven
+            }
+            InputQuantity::VenousCohb | InputQuantity::VenousMethb => {
+                match (&self.inputs.venous, self.venous) {
+                    (Some(_), Some(_)) => AbsentReason::ValueNotGiven,
+                    _ => AbsentReason::NotAnInput,
+                }
+            }
             q if q.condition().is_some() => match (&self.arterial_curve, &self.inputs.venous) {
                 (Some(curve), _) => curve.absent_reason(q),
                 (None, Some(ContentSample {
@@ -650,6 +662,27 @@ mod tests {
         // 1.34 · 15 · 0.97 · (1 − 0.03) + 0.0031 · 100 (derived from the formula).
         let expected = 1.34 * 15.0 * 0.97 * 0.97 + 0.31;
         assert!((f.evaluate(&f.estimates()).unwrap() - expected).abs() < 1e-12);
+    }
+
+    #[test]
+    fn figures_for_missing_values_say_so() {
+        let mut i = inputs();
+        i.arterial.cohb_fraction = None;
+        i.arterial.methb_fraction = None;
+        i.venous = None;
+        let f = OxygenContentValue::new(DerivedQuantity::ArterialContent, i).unwrap();
+        assert_eq!(
+            f.absent_reason(InputQuantity::Cohb),
+            AbsentReason::ValueNotGiven
+        );
+        assert_eq!(
+            f.absent_reason(InputQuantity::VenousSaturation),
+            AbsentReason::NotAnInput
+        );
+        assert_eq!(
+            f.absent_reason(InputQuantity::VenousCohb),
+            AbsentReason::NotAnInput
+        );
     }
 
     #[test]
