@@ -5,6 +5,8 @@
 pub mod http;
 pub mod vectors;
 
+pub mod fhir;
+
 use std::net::SocketAddr;
 
 use oxbind_service::Config;

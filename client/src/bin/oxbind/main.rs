@@ -10,6 +10,7 @@ mod columns;
 mod commands;
 mod demo;
 mod failure;
+mod fhir;
 mod fields;
 #[path = "../common/model_arg.rs"]
 mod model_arg;
@@ -129,6 +130,9 @@ enum Command {
     Batch(batch::BatchArgs),
     /// An invented scenario at a fictional hospital (`--svg` draws its curves).
     Demo(demo::DemoArgs),
+    /// Derived Observations from a FHIR R4 Parameters or Bundle of
+    /// LOINC-coded Observations (the server's $derive-oxygen-values).
+    Fhir(fhir::FhirArgs),
     /// Print a shell completion script.
     Completions {
         /// The shell.
@@ -238,6 +242,7 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
     match &cli.command {
         Command::Batch(_) if cli.json => unused("--json", "batch (it writes CSV)"),
         Command::Demo(_) if cli.json => unused("--json", "demo"),
+        Command::Fhir(_) if cli.json => unused("--json", "fhir (it prints FHIR JSON)"),
         Command::Health | Command::Models | Command::Completions { .. } if cli.model.is_some() => {
             unused("--model", "health, models or completions")
         }
@@ -256,6 +261,9 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         let mut script = Vec::new();
         clap_complete::generate(*shell, &mut Cli::command(), "oxbind", &mut script);
         return output::line(String::from_utf8_lossy(&script).trim_end());
+    }
+    if let Command::Fhir(args) = &cli.command {
+        return fhir::run(cli, args).await;
     }
     let model = cli
         .model
@@ -293,7 +301,7 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
             None => Ok(()),
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
-        Command::Completions { .. } => Ok(()),
+        Command::Completions { .. } | Command::Fhir(_) => Ok(()),
     }
 }
 
