@@ -1,9 +1,9 @@
 #!/usr/bin/env bash
-# Runs every check the project has, on a fresh machine with only the Rust
-# toolchain and Python 3: formatting, clippy, all Rust tests, buf lint of the
-# contract, buf breaking against the previous commit, and schema validation of
-# every Kubernetes manifest. Python tools go into a virtual environment made
-# here.
+# Runs every check the project has, on a fresh machine with the Rust
+# toolchains (stable and nightly, the latter for the fuzz step), Python 3 and
+# Node: formatting, clippy, all Rust tests, buf lint of the contract, buf
+# breaking against the previous commit, and schema validation of every
+# Kubernetes manifest. Python tools go into a virtual environment made here.
 set -euo pipefail
 
 root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
@@ -69,6 +69,12 @@ echo "${#manifests[@]} manifests valid"
 
 step "interop (an independent Python grpcio client)"
 bash tests/interop/run.sh
+
+step "Connect (the official Connect client for Python, connectrpc)"
+bash tests/connect/run.sh
+
+step "FHIR answers validated independently (fhirclient, R4 JSON Schema, FHIRPath)"
+bash tests/fhir/run.sh
 
 step "fuzz smoke (cargo-fuzz on the nightly toolchain: corpus replay and about 60 s of fuzzing)"
 bash tests/fuzz-smoke.sh

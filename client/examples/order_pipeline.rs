@@ -7,14 +7,17 @@
 //! ```
 //!
 //! With no arguments it uses a few invented rows and prints to standard
-//! output. Input columns: `order_id,po2_mmhg,ph,pco2_mmhg,temperature_cel`.
+//! output. Input columns, exactly: `order_id,po2_mmhg,ph,pco2_mmhg,
+//! temperature_cel` (plain numbers in those units; an empty cell is "not
+//! measured"). Any other column, or a cell that is not a number, is refused
+//! rather than dropped.
 //! The server address comes from `OXBIND_SERVER` (default
 //! `http://127.0.0.1:50051`).
 
 use std::{error::Error, io::Write};
 
 use oxbind_client::{
-    v1::{BloodConditions, Quantity, SaturationFromTensionRequest},
+    v1::{BloodConditions, Quantity, SaturationFromTensionRequest, WarningCode},
     OxbindClient, DEFAULT_SERVER,
 };
 
@@ -29,39 +32,64 @@ B-3,75,9.90,40,37.0
 B-4,104,7.08,19,37.0
 ";
 
-/// One input row.
+/// The input columns, by name; every one must be present, and no other.
+const COLUMNS: [&str; 5] = ["order_id", "po2_mmhg", "ph", "pco2_mmhg", "temperature_cel"];
+
+/// One input row: its order id, and its request or why it cannot be read.
 struct Order {
     id: String,
-    request: SaturationFromTensionRequest,
+    request: Result<SaturationFromTensionRequest, String>,
 }
 
-fn number(record: &csv::StringRecord, index: usize) -> Option<f64> {
-    record.get(index).and_then(|s| s.trim().parse().ok())
-}
-
-fn read_orders(reader: impl std::io::Read) -> Result<Vec<Order>, csv::Error> {
+/// Read the rows. The header must name exactly [`COLUMNS`] (in any order):
+/// a misspelt column would otherwise be dropped without a word, and the row
+/// computed at standard conditions.
+fn read_orders(reader: impl std::io::Read) -> Result<Vec<Order>, Box<dyn Error>> {
+    let mut reader = csv::ReaderBuilder::new()
+        .trim(csv::Trim::All)
+        .from_reader(reader);
+    let headers = reader.headers()?.clone();
+    let mut index = [0usize; 5];
+    for (slot, name) in index.iter_mut().zip(COLUMNS) {
+        *slot = headers.iter().position(|h| h == name).ok_or_else(|| {
+            format!("the header needs the columns {COLUMNS:?}; `{name}` is missing")
+        })?;
+    }
+    if let Some(unknown) = headers.iter().find(|h| !COLUMNS.contains(h)) {
+        return Err(format!("unknown column `{unknown}`; the columns are {COLUMNS:?}").into());
+    }
     let mut orders = Vec::new();
-    for record in csv::Reader::from_reader(reader).records() {
+    for record in reader.records() {
         let record = record?;
-        let mut conditions = BloodConditions::standard();
-        if let Some(ph) = number(&record, 2) {
-            conditions = conditions.with_ph(ph);
-        }
-        if let Some(pco2) = number(&record, 3) {
-            conditions = conditions.with_pco2(Quantity::mm_hg(pco2));
-        }
-        if let Some(t) = number(&record, 4) {
-            conditions = conditions.with_temperature(Quantity::celsius(t));
-        }
-        orders.push(Order {
-            id: record.get(0).unwrap_or_default().to_owned(),
-            request: SaturationFromTensionRequest {
-                // A missing PO2 goes to the server as NaN, which it refuses
-                // for this row alone, naming the field.
-                po2: Some(Quantity::mm_hg(number(&record, 1).unwrap_or(f64::NAN))),
-                conditions: Some(conditions),
+        let cell = |i: usize| record.get(index[i]).unwrap_or_default();
+        // An empty cell is "not measured"; anything else must be a number.
+        let number = |i: usize| -> Result<Option<f64>, String> {
+            match cell(i) {
+                "" => Ok(None),
+                text => text
+                    .parse()
+                    .map(Some)
+                    .map_err(|_| format!("{}: `{text}` is not a number", COLUMNS[i])),
+            }
+        };
+        let request = (|| {
+            let po2 = number(1)?.ok_or("po2_mmhg: empty; a PO2 is required")?;
+            let conditions = BloodConditions {
+                ph: number(2)?,
+                pco2: number(3)?.map(Quantity::mm_hg),
+                temperature: number(4)?.map(Quantity::celsius),
                 ..Default::default()
-            },
+            };
+            Ok(SaturationFromTensionRequest {
+                po2: Some(Quantity::mm_hg(po2)),
+                // Nothing empty is sent: no conditions means standard ones.
+                conditions: (conditions != BloodConditions::default()).then_some(conditions),
+                ..Default::default()
+            })
+        })();
+        orders.push(Order {
+            id: cell(0).to_owned(),
+            request,
         });
     }
     Ok(orders)
@@ -89,16 +117,49 @@ async fn main() -> Result<(), Box<dyn Error>> {
         "order_id",
         "saturation_fraction",
         "p50_mmhg",
+        "warning_codes",
         "warnings",
         "error",
     ])?;
     for chunk in orders.chunks(CHUNK) {
-        let requests = chunk.iter().map(|o| o.request.clone()).collect();
-        let results = client.batch_saturation_from_tension(requests).await?;
-        for (order, result) in chunk.iter().zip(results) {
+        let requests: Vec<SaturationFromTensionRequest> = chunk
+            .iter()
+            .filter_map(|o| o.request.as_ref().ok().cloned())
+            .collect();
+        let mut results = if requests.is_empty() {
+            Vec::new()
+        } else {
+            client.batch_saturation_from_tension(requests).await?
+        }
+        .into_iter();
+        for order in chunk {
+            let result = match &order.request {
+                Err(unreadable) => Err(unreadable.clone()),
+                Ok(_) => results
+                    .next()
+                    .ok_or("the server answered fewer items than were sent")?
+                    .map_err(|refused| {
+                        refused
+                            .field_violations()
+                            .iter()
+                            .map(|v| v.description.clone())
+                            .collect::<Vec<_>>()
+                            .join("\n")
+                    }),
+            };
             match result {
                 Ok(answer) => {
-                    let warnings: Vec<String> =
+                    // Codes for machines, messages for people, one per line.
+                    let codes: Vec<String> = answer
+                        .warnings
+                        .iter()
+                        .map(|w| {
+                            WarningCode::try_from(w.code)
+                                .map(|c| c.as_str_name().to_owned())
+                                .unwrap_or_else(|_| w.code.to_string())
+                        })
+                        .collect();
+                    let messages: Vec<String> =
                         answer.warnings.iter().map(|w| w.message.clone()).collect();
                     writer.write_record([
                         order.id.clone(),
@@ -107,22 +168,19 @@ async fn main() -> Result<(), Box<dyn Error>> {
                             .p50_at_conditions
                             .map(|q| format!("{:.1}", q.value))
                             .unwrap_or_default(),
-                        warnings.join("; "),
+                        codes.join(" "),
+                        messages.join("\n"),
                         String::new(),
                     ])?;
                 }
-                Err(refused) => {
-                    let fields: Vec<String> = refused
-                        .field_violations()
-                        .iter()
-                        .map(|v| format!("{}: {}", v.field, v.description))
-                        .collect();
+                Err(error) => {
                     writer.write_record([
                         order.id.clone(),
                         String::new(),
                         String::new(),
                         String::new(),
-                        fields.join("; "),
+                        String::new(),
+                        error,
                     ])?;
                 }
             }

@@ -36,6 +36,9 @@ pub const DEFAULT_CALL_TIMEOUT: Duration = Duration::from_secs(10);
 /// The user agent sent when none is set.
 pub const DEFAULT_USER_AGENT: &str = concat!("oxbind-client/", env!("CARGO_PKG_VERSION"));
 
+/// The message of the status tonic makes up when its per-call timeout fires.
+const TONIC_TIMEOUT_MESSAGE: &str = "Timeout expired";
+
 /// The result of one item of a batch: its response, or why it was refused.
 pub type ItemResult<T> = Result<T, ClientError>;
 
@@ -245,6 +248,14 @@ impl ClientBuilder {
             endpoint: self.endpoint.clone(),
             reason,
         };
+        // Without a scheme the address would only fail later, at connect
+        // time, as if the server were down.
+        if !(self.endpoint.starts_with("http://") || self.endpoint.starts_with("https://")) {
+            return Err(invalid(
+                "the address needs a scheme: http://HOST:PORT, or https://HOST:PORT for TLS"
+                    .to_owned(),
+            ));
+        }
         let mut endpoint = Endpoint::from_shared(uri.to_owned())
             .map_err(|e| invalid(e.to_string()))?
             .tcp_nodelay(true)
@@ -290,7 +301,7 @@ impl ClientBuilder {
                 .await
                 .map_err(ClientError::Connect)?,
         };
-        Ok(OxbindClient::from_channel(channel, self.retry))
+        Ok(OxbindClient::from_channel(channel, self.retry).with_call_timeout(self.call_timeout))
     }
 
     /// Connect on first use: an unreachable server then shows as UNAVAILABLE
@@ -303,7 +314,7 @@ impl ClientBuilder {
             Some(balancing) => balance::balanced_channel_lazy(&self, balancing)?,
             None => self.endpoint()?.connect_lazy(),
         };
-        Ok(OxbindClient::from_channel(channel, self.retry))
+        Ok(OxbindClient::from_channel(channel, self.retry).with_call_timeout(self.call_timeout))
     }
 }
 
@@ -328,6 +339,7 @@ pub struct OxbindClient {
     catalog: ModelCatalogServiceClient<Channel>,
     health: HealthClient<Channel>,
     retry: RetryPolicy,
+    call_timeout: Option<Duration>,
 }
 
 /// Define a retried unary call on one of the stubs.
@@ -366,7 +378,16 @@ impl OxbindClient {
             catalog: ModelCatalogServiceClient::new(channel.clone()),
             health: HealthClient::new(channel),
             retry,
+            call_timeout: None,
         }
+    }
+
+    /// The same client, knowing the per-call deadline its channel applies
+    /// (set by [`ClientBuilder::connect`]), so that a call that outlives it
+    /// is reported as DEADLINE_EXCEEDED with that deadline.
+    fn with_call_timeout(mut self, timeout: Option<Duration>) -> Self {
+        self.call_timeout = timeout;
+        self
     }
 
     /// The retry policy in force.
@@ -384,7 +405,30 @@ impl OxbindClient {
             .when(|status: &tonic::Status| status.code() == Code::Unavailable)
             .await
             .map(tonic::Response::into_inner)
-            .map_err(ClientError::from)
+            .map_err(|status| self.local_deadline(status))
+    }
+
+    /// The error for `status`. tonic reports its own per-call timeout as
+    /// CANCELLED "Timeout expired"; gRPC names a deadline that passed on the
+    /// client's side DEADLINE_EXCEEDED, so that is what the caller gets,
+    /// with the deadline in the message.
+    fn local_deadline(&self, status: tonic::Status) -> ClientError {
+        if status.code() == Code::Cancelled && status.message() == TONIC_TIMEOUT_MESSAGE {
+            let message = match self.call_timeout {
+                Some(timeout) => format!(
+                    "no answer within the client's deadline of {} s",
+                    timeout.as_secs_f64()
+                ),
+                None => "no answer within the client's deadline".to_owned(),
+            };
+            return ClientError::Status {
+                code: Code::DeadlineExceeded,
+                message,
+                violations: Vec::new(),
+                info: None,
+            };
+        }
+        ClientError::from(status)
     }
 
     unary!(
@@ -601,7 +645,7 @@ impl OxbindClient {
 /// provenance entry copied in under `PROVENANCE_PLACEMENT_SHARED`) or the
 /// item's error; an item with neither is an error too.
 fn item_results<R>(
-    items: impl Iterator<Item = (Option<Result<R, tonic_types::pb::Status>>, u32)>,
+    items: impl Iterator<Item = (Option<Result<R, oxbind_proto::google::rpc::Status>>, u32)>,
     shared: &[Provenance],
     placement: ProvenancePlacement,
     set_provenance: impl Fn(&mut R, Provenance),

@@ -1,8 +1,8 @@
 //! One error type for every call: [`ClientError`].
 
+use oxbind_proto::google::rpc as pb;
 use prost::Message;
 use tonic::Code;
-use tonic_types::pb;
 
 /// One field the server refused, from `google.rpc.BadRequest`.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -121,7 +121,7 @@ impl ClientError {
     }
 }
 
-fn decode_details(details: &[prost_types::Any]) -> (Vec<FieldViolation>, Option<ErrorInfo>) {
+fn decode_details(details: &[oxbind_proto::Any]) -> (Vec<FieldViolation>, Option<ErrorInfo>) {
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {
@@ -175,13 +175,7 @@ impl std::fmt::Display for ClientError {
             }
             ClientError::Tls(reason) => write!(f, "TLS configuration: {reason}"),
             ClientError::Connect(error) => {
-                write!(f, "server unavailable: {error}")?;
-                let mut source = std::error::Error::source(error);
-                while let Some(cause) = source {
-                    write!(f, ": {cause}")?;
-                    source = cause.source();
-                }
-                Ok(())
+                write!(f, "server unavailable: {}", cause_chain(error))
             }
             ClientError::Status {
                 code,
@@ -208,6 +202,23 @@ impl std::error::Error for ClientError {
     }
 }
 
+/// `error` and its causes joined by `: `, each said once: transport errors
+/// often repeat their cause's text in their own (`tcp connect error: tcp
+/// connect error: ...`), so a cause already contained in the text before it
+/// is left out.
+pub(crate) fn cause_chain(error: &(dyn std::error::Error + 'static)) -> String {
+    let mut parts: Vec<String> = vec![error.to_string()];
+    let mut source = error.source();
+    while let Some(cause) = source {
+        let text = cause.to_string();
+        if !parts.iter().any(|p| p.contains(&text)) {
+            parts.push(text);
+        }
+        source = cause.source();
+    }
+    parts.join(": ")
+}
+
 /// The canonical upper-snake-case name of a status code
 /// (`google/rpc/code.proto`).
 pub fn code_name(code: Code) -> &'static str {
@@ -229,5 +240,43 @@ pub fn code_name(code: Code) -> &'static str {
         Code::Unavailable => "UNAVAILABLE",
         Code::DataLoss => "DATA_LOSS",
         Code::Unauthenticated => "UNAUTHENTICATED",
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[derive(Debug)]
+    struct Layer(&'static str, Option<Box<Layer>>);
+
+    impl std::fmt::Display for Layer {
+        fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+            f.write_str(self.0)
+        }
+    }
+
+    impl std::error::Error for Layer {
+        fn source(&self) -> Option<&(dyn std::error::Error + 'static)> {
+            self.1.as_deref().map(|l| l as _)
+        }
+    }
+
+    #[test]
+    fn a_cause_is_said_once() {
+        let error = Layer(
+            "transport error",
+            Some(Box::new(Layer(
+                "tcp connect error",
+                Some(Box::new(Layer(
+                    "tcp connect error",
+                    Some(Box::new(Layer("Connection refused (os error 111)", None))),
+                ))),
+            ))),
+        );
+        assert_eq!(
+            cause_chain(&error),
+            "transport error: tcp connect error: Connection refused (os error 111)"
+        );
     }
 }

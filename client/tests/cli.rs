@@ -1,67 +1,15 @@
 //! The `oxbind` command line against a real in-process server: every
 //! subcommand once, `--json` output, the CSV batch, the SVG plot, and the
-//! exit codes 2 (usage), 3 (refused input) and 4 (unavailable).
+//! exit codes 2 (usage), 3 (refused input), 4 (unavailable) and 5 (a batch
+//! with refused rows).
+
+mod common;
 
 use std::path::Path;
 
 use assert_cmd::Command;
+use common::{stdout_of, Server};
 use serde_json::Value;
-use tokio::sync::oneshot;
-
-/// A real server on `127.0.0.1:0`, running on its own runtime thread so
-/// the blocking command runs can talk to it.
-struct Server {
-    uri: String,
-    stop: Option<oneshot::Sender<()>>,
-    thread: Option<std::thread::JoinHandle<()>>,
-}
-
-impl Server {
-    fn start() -> Self {
-        let (ready_tx, ready_rx) = std::sync::mpsc::channel();
-        let (stop, stopped) = oneshot::channel::<()>();
-        let thread = std::thread::spawn(move || {
-            let runtime = tokio::runtime::Builder::new_multi_thread()
-                .worker_threads(2)
-                .enable_all()
-                .build()
-                .unwrap();
-            runtime.block_on(async move {
-                let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await.unwrap();
-                ready_tx
-                    .send(format!("http://{}", listener.local_addr().unwrap()))
-                    .unwrap();
-                oxbind_service::serve(listener, oxbind_service::Config::default(), async move {
-                    let _ = stopped.await;
-                })
-                .await
-                .unwrap();
-            });
-        });
-        Self {
-            uri: ready_rx.recv().unwrap(),
-            stop: Some(stop),
-            thread: Some(thread),
-        }
-    }
-
-    fn oxbind(&self) -> Command {
-        let mut cmd = Command::cargo_bin("oxbind").unwrap();
-        cmd.env("OXBIND_SERVER", &self.uri);
-        cmd
-    }
-}
-
-impl Drop for Server {
-    fn drop(&mut self) {
-        if let Some(stop) = self.stop.take() {
-            let _ = stop.send(());
-        }
-        if let Some(thread) = self.thread.take() {
-            let _ = thread.join();
-        }
-    }
-}
 
 fn json_of(output: &std::process::Output) -> Value {
     assert!(
@@ -70,17 +18,6 @@ fn json_of(output: &std::process::Output) -> Value {
         String::from_utf8_lossy(&output.stderr)
     );
     serde_json::from_slice(&output.stdout).expect("stdout is JSON")
-}
-
-fn stdout_of(cmd: &mut Command) -> String {
-    let output = cmd.output().unwrap();
-    assert!(
-        output.status.success(),
-        "exit {:?}: {}",
-        output.status.code(),
-        String::from_utf8_lossy(&output.stderr)
-    );
-    String::from_utf8(output.stdout).unwrap()
 }
 
 #[test]
@@ -234,7 +171,7 @@ fn shift_p50_temperature_content_gas_exchange_models_health() {
             .output()
             .unwrap(),
     );
-    // Derived from the alveolar gas equation, PAO2 = FIO2 (PB - PH2O) - PaCO2/R
+    // Derived from the alveolar gas equation, PAO2 = FiO2 (PB - PH2O) - PaCO2/R
     // = 0.21 x (760 - 47) - 40/0.8 = 99.7 mm[Hg] (a full form adds a small term).
     let pao2_alv = gas["alveolarPo2"]["value"].as_f64().unwrap();
     assert!((pao2_alv - 99.7).abs() < 3.0, "{pao2_alv}");
@@ -242,7 +179,8 @@ fn shift_p50_temperature_content_gas_exchange_models_health() {
     assert!((ratio - 90.0 / 0.21).abs() < 0.5, "{ratio}");
 
     let models = json_of(&server.oxbind().args(["models", "--json"]).output().unwrap());
-    assert_eq!(models["models"].as_array().unwrap().len(), 6);
+    // Every model of the contract's `Model` enum (seven since issue 11).
+    assert_eq!(models["models"].as_array().unwrap().len(), 7);
     assert!(stdout_of(server.oxbind().arg("models")).contains("severinghaus-1979"));
 
     let health = stdout_of(server.oxbind().arg("health"));
@@ -328,14 +266,16 @@ fn batch_csv_gives_one_row_per_input_with_errors() {
         .arg(&output)
         .output()
         .unwrap();
-    assert!(
-        run.status.success(),
+    // Two rows refused: every row is written, and the run says so.
+    assert_eq!(
+        run.status.code(),
+        Some(5),
         "{}",
         String::from_utf8_lossy(&run.stderr)
     );
     let summary = String::from_utf8_lossy(&run.stderr);
     assert!(
-        summary.contains("5 rows: 3 computed, 2 with errors"),
+        summary.contains("5 rows: 3 computed, 2 refused"),
         "{summary}"
     );
 
@@ -356,8 +296,8 @@ fn batch_csv_gives_one_row_per_input_with_errors() {
     let so2: f64 = rows[4][col("saturation_fraction")].parse().unwrap();
     assert!((so2 - 0.5).abs() < 0.01, "{so2}");
     assert!(rows[1][col("error")].contains("po2"), "{:?}", &rows[1]);
-    assert!(rows[3][col("error")].contains("INVALID_ARGUMENT"));
-    assert!(rows[3][col("error")].contains("ph"), "{:?}", &rows[3]);
+    assert_eq!(&rows[3][col("error_reasons")], "PH_OUT_OF_RANGE");
+    assert!(rows[3][col("error")].starts_with("ph "), "{:?}", &rows[3]);
 }
 
 #[test]
@@ -412,7 +352,7 @@ fn exit_codes_say_what_went_wrong() {
         .unwrap();
     assert_eq!(refused.status.code(), Some(3));
     let stderr = String::from_utf8_lossy(&refused.stderr);
-    assert!(stderr.contains("field `po2"), "{stderr}");
+    assert!(stderr.starts_with("oxbind: --po2 "), "{stderr}");
     // 4: nothing listening.
     let port = {
         let l = std::net::TcpListener::bind("127.0.0.1:0").unwrap();

@@ -435,3 +435,36 @@ async fn mutual_tls_presents_the_client_certificate() {
         "only the mTLS call arrived"
     );
 }
+
+#[tokio::test]
+async fn an_address_without_a_scheme_is_an_invalid_endpoint() {
+    let error = OxbindClient::connect("127.0.0.1:50051")
+        .await
+        .expect_err("no scheme");
+    assert!(
+        matches!(error, ClientError::InvalidEndpoint { .. }),
+        "{error:?}"
+    );
+    assert!(error.to_string().contains("http://"), "{error}");
+}
+
+#[tokio::test]
+async fn a_call_past_the_client_deadline_is_deadline_exceeded() {
+    let (uri, stop) = start_service().await;
+    let client = OxbindClient::builder(uri)
+        .call_timeout(Duration::from_nanos(1))
+        .retry(RetryPolicy::none())
+        .connect()
+        .await
+        .unwrap();
+    let error = client
+        .sample_curve(oxbind_client::v1::SampleCurveRequest {
+            point_count: 10_000,
+            ..Default::default()
+        })
+        .await
+        .expect_err("1 ns is too short for any call");
+    assert_eq!(error.code(), Code::DeadlineExceeded, "{error}");
+    assert!(error.to_string().contains("client's deadline"), "{error}");
+    let _ = stop.send(());
+}

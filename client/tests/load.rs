@@ -1,76 +1,29 @@
-//! `oxbind load` against a real in-process server, for about a second in
+//! `oxbind-load` against a real in-process server, for about a second in
 //! all: the JSON report's shape and counts, the baseline ratio, batch mode's
 //! item counts and sizes, the `--max-calls` bound, and the usage errors.
 //! No timing is asserted: speed figures live in BENCHMARKS.md.
 
+mod common;
+
 use assert_cmd::Command;
+use common::Server;
 use serde_json::Value;
-use tokio::sync::oneshot;
 
-/// A real server on `127.0.0.1:0`, on its own runtime thread.
-struct Server {
-    uri: String,
-    stop: Option<oneshot::Sender<()>>,
-    thread: Option<std::thread::JoinHandle<()>>,
-}
-
-impl Server {
-    fn start() -> Self {
-        let (ready_tx, ready_rx) = std::sync::mpsc::channel();
-        let (stop, stopped) = oneshot::channel::<()>();
-        let thread = std::thread::spawn(move || {
-            let runtime = tokio::runtime::Builder::new_multi_thread()
-                .worker_threads(2)
-                .enable_all()
-                .build()
-                .unwrap();
-            runtime.block_on(async move {
-                let listener = tokio::net::TcpListener::bind("127.0.0.1:0").await.unwrap();
-                ready_tx
-                    .send(format!("http://{}", listener.local_addr().unwrap()))
-                    .unwrap();
-                oxbind_service::serve(listener, oxbind_service::Config::default(), async move {
-                    let _ = stopped.await;
-                })
-                .await
-                .unwrap();
-            });
-        });
-        Self {
-            uri: ready_rx.recv().unwrap(),
-            stop: Some(stop),
-            thread: Some(thread),
-        }
-    }
-
-    fn load(&self, args: &[&str]) -> Value {
-        let output = Command::cargo_bin("oxbind")
-            .unwrap()
-            .env("OXBIND_SERVER", &self.uri)
-            .arg("--json")
-            .arg("load")
-            .args(args)
-            .output()
-            .unwrap();
-        assert!(
-            output.status.success(),
-            "exit {:?}: {}",
-            output.status.code(),
-            String::from_utf8_lossy(&output.stderr)
-        );
-        serde_json::from_slice(&output.stdout).expect("stdout is JSON")
-    }
-}
-
-impl Drop for Server {
-    fn drop(&mut self) {
-        if let Some(stop) = self.stop.take() {
-            let _ = stop.send(());
-        }
-        if let Some(thread) = self.thread.take() {
-            let _ = thread.join();
-        }
-    }
+/// The report of `oxbind-load --json ARGS` against `server`.
+fn load(server: &Server, args: &[&str]) -> Value {
+    let output = server
+        .oxbind_load()
+        .arg("--json")
+        .args(args)
+        .output()
+        .unwrap();
+    assert!(
+        output.status.success(),
+        "exit {:?}: {}",
+        output.status.code(),
+        String::from_utf8_lossy(&output.stderr)
+    );
+    serde_json::from_slice(&output.stdout).expect("stdout is JSON")
 }
 
 fn f(value: &Value) -> f64 {
@@ -110,21 +63,24 @@ fn saturation_with_baseline_reports_both_and_their_ratio() {
     let server = Server::start();
     // The in-process server is this test process.
     let pid = std::process::id().to_string();
-    let report = server.load(&[
-        "--rpc",
-        "saturation",
-        "--in-flight",
-        "4",
-        "--connections",
-        "2",
-        "--warm-up",
-        "0.1",
-        "--duration",
-        "0.3",
-        "--baseline",
-        "--server-pid",
-        &pid,
-    ]);
+    let report = load(
+        &server,
+        &[
+            "--rpc",
+            "saturation",
+            "--in-flight",
+            "4",
+            "--connections",
+            "2",
+            "--warm-up",
+            "0.1",
+            "--duration",
+            "0.3",
+            "--baseline",
+            "--server-pid",
+            &pid,
+        ],
+    );
     let result = &report["result"];
     let baseline = &report["baseline"];
     assert_eq!(
@@ -153,22 +109,25 @@ fn saturation_with_baseline_reports_both_and_their_ratio() {
 #[test]
 fn batch_counts_items_and_sizes_and_every_item_is_computed() {
     let server = Server::start();
-    let report = server.load(&[
-        "--rpc",
-        "batch-saturation",
-        "--items",
-        "50",
-        "--in-flight",
-        "2",
-        "--connections",
-        "1",
-        "--warm-up",
-        "0.1",
-        "--duration",
-        "0.3",
-        "--model",
-        "dash-2016",
-    ]);
+    let report = load(
+        &server,
+        &[
+            "--rpc",
+            "batch-saturation",
+            "--items",
+            "50",
+            "--in-flight",
+            "2",
+            "--connections",
+            "1",
+            "--warm-up",
+            "0.1",
+            "--duration",
+            "0.3",
+            "--model",
+            "dash-2016",
+        ],
+    );
     let result = &report["result"];
     assert_eq!(result["itemsPerCall"], 50);
     check_consistent(result);
@@ -205,7 +164,7 @@ fn shared_provenance_and_po2_only_shrink_the_messages() {
             "7",
         ];
         args.extend_from_slice(extra);
-        let report = server.load(&args);
+        let report = load(&server, &args);
         let result = report["result"].clone();
         check_consistent(&result);
         assert_eq!(result["itemErrors"], serde_json::json!({}), "{report}");
@@ -234,36 +193,56 @@ fn shared_provenance_and_po2_only_shrink_the_messages() {
 #[test]
 fn max_calls_bounds_the_count() {
     let server = Server::start();
-    let report = server.load(&[
-        "--rpc",
-        "health",
-        "--in-flight",
-        "3",
-        "--connections",
-        "1",
-        "--warm-up",
-        "0",
-        "--duration",
-        "30",
-        "--max-calls",
-        "25",
-    ]);
+    let report = load(
+        &server,
+        &[
+            "--rpc",
+            "health",
+            "--in-flight",
+            "3",
+            "--connections",
+            "1",
+            "--warm-up",
+            "0",
+            "--duration",
+            "30",
+            "--max-calls",
+            "25",
+        ],
+    );
     assert_eq!(report["result"]["callsOk"], 25, "{report}");
 }
 
 #[test]
 fn bad_settings_are_usage_errors() {
     for args in [
-        &["load", "--duration", "0"][..],
-        &["load", "--duration", "601"],
-        &["load", "--warm-up", "-1"],
-        &["load", "--in-flight", "0"],
-        &["--server", "https://127.0.0.1:1", "load"],
+        &["--duration", "0"][..],
+        &["--duration", "601"],
+        &["--warm-up", "-1"],
+        &["--in-flight", "0"],
+        &["--timeout", "0s"],
+        &["--server", "https://127.0.0.1:1"],
     ] {
-        Command::cargo_bin("oxbind")
+        Command::cargo_bin("oxbind-load")
             .unwrap()
             .args(args)
             .assert()
             .code(2);
     }
+}
+
+#[test]
+fn the_integrators_command_has_no_load_subcommand() {
+    let help = Command::cargo_bin("oxbind")
+        .unwrap()
+        .arg("--help")
+        .output()
+        .unwrap();
+    let help = String::from_utf8(help.stdout).unwrap();
+    assert!(!help.contains("\n  load "), "{help}");
+    Command::cargo_bin("oxbind")
+        .unwrap()
+        .args(["load", "--duration", "1"])
+        .assert()
+        .code(2);
 }

@@ -292,10 +292,11 @@ pub struct Config {
     #[arg(long, env = ENV_GRPC_WEB)]
     pub grpc_web: bool,
 
-    /// Origins a browser may call from with grpc-web (comma-separated, e.g.
-    /// `https://dashboard.example.org`); none by default.
+    /// Origins a browser may call from, with grpc-web or the Connect protocol
+    /// (comma-separated, e.g. `https://dashboard.example.org`); none by
+    /// default.
     #[arg(long, env = ENV_CORS_ALLOWED_ORIGINS, value_name = "ORIGINS", value_delimiter = ',',
-          value_parser = parse_origin, requires = "grpc_web")]
+          value_parser = parse_origin)]
     pub cors_allowed_origins: Vec<String>,
 
     /// Time a client has to finish the TLS handshake; past it the connection
@@ -397,11 +398,61 @@ impl Config {
                 ) {
                     error.exit();
                 }
-                let _ = error.print();
+                match from_environment(&error) {
+                    Some(message) => eprintln!("error: {message}"),
+                    None => {
+                        let _ = error.print();
+                    }
+                }
                 std::process::exit(EXIT_CONFIG_INVALID);
             }
         }
     }
+}
+
+/// When `error` is about a value that came from an `OXBIND_*` environment
+/// variable rather than from the command line, the message naming that
+/// variable (clap's own names the flag, which nobody typed).
+fn from_environment(error: &clap::Error) -> Option<String> {
+    use clap::{
+        error::{ContextKind, ContextValue},
+        CommandFactory,
+    };
+    let Some(ContextValue::String(arg)) = error.get(ContextKind::InvalidArg) else {
+        return None;
+    };
+    // `--listen <ADDR>` -> `listen`.
+    let long = arg.trim_start_matches("--").split(' ').next()?;
+    let command = Config::command();
+    let flag = command
+        .get_arguments()
+        .find(|a| a.get_long() == Some(long))?;
+    let variable = flag.get_env()?.to_str()?;
+    let on_command_line = std::env::args_os().skip(1).any(|a| {
+        a.to_str()
+            .is_some_and(|a| a == format!("--{long}") || a.starts_with(&format!("--{long}=")))
+    });
+    let value = std::env::var(variable).ok()?;
+    if on_command_line {
+        return None;
+    }
+    let why = error
+        .get(ContextKind::Custom)
+        .map(|c| c.to_string())
+        .or_else(|| {
+            // clap's rendered message ends with the parser's reason.
+            error
+                .render()
+                .to_string()
+                .lines()
+                .next()
+                .and_then(|l| l.rsplit_once(": "))
+                .map(|(_, why)| why.to_owned())
+        })
+        .unwrap_or_default();
+    Some(format!(
+        "invalid value '{value}' in the environment variable {variable} (the setting --{long}): {why}"
+    ))
 }
 
 impl Config {
@@ -679,14 +730,15 @@ mod tests {
     }
 
     #[test]
-    fn cors_origins_need_grpc_web_and_must_be_origins() {
-        let error = Config::try_parse_from([
+    fn cors_origins_must_be_origins_and_serve_connect_without_grpc_web() {
+        let parsed = Config::try_parse_from([
             "oxbind-server",
             "--cors-allowed-origins",
             "https://a.example",
         ])
-        .unwrap_err();
-        assert!(error.to_string().contains("--grpc-web"), "{error}");
+        .unwrap();
+        assert!(!parsed.grpc_web);
+        assert_eq!(parsed.cors_allowed_origins, ["https://a.example"]);
         let error = Config::try_parse_from([
             "oxbind-server",
             "--grpc-web",

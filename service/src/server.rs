@@ -1,7 +1,25 @@
-//! Start-up and shutdown: the gRPC server on an already-bound listener.
+//! Start-up and shutdown: the server on an already-bound listener.
 //!
 //! [`serve`] takes the listener and any shutdown future, so the binary passes a
 //! real socket and the OS signals, and tests pass port 0 and a oneshot.
+//!
+//! The main listener serves gRPC, grpc-web (behind a flag), the Connect
+//! protocol and the FHIR R4 door, over HTTP/2 and HTTP/1.1, through one
+//! connection loop ([`connections`]: connection cap, TLS with its handshake
+//! deadline and ALPN `h2` then `http/1.1`, preface, idle and maximum-age
+//! deadlines, stuck answers). Each request then passes, outermost first:
+//!
+//! 1. CORS (with `--grpc-web` or `--cors-allowed-origins`);
+//! 2. the door dispatch ([`DispatchLayer`]: FHIR by path, gRPC and grpc-web
+//!    by content type, Connect by content type or GET form, refusals for
+//!    other requests to v1 paths);
+//! 3. per door, its own copy of the per-call layer ([`CallLayer`]), then:
+//!    - gRPC and grpc-web ([`grpc_stack`]): strictness, grpc-web
+//!      translation, panic catching, streaming limits, the request gate and
+//!      admission, the compute pool, tonic's routes;
+//!    - Connect and FHIR ([`DoorLayers`]): panic catching, then the door,
+//!      which reads its request and asks the same admission (and, for a
+//!      Connect call of many items, the same compute pool).
 
 use std::{convert::Infallible, future::Future, time::Duration};
 
@@ -21,17 +39,19 @@ use tonic::{body::Body, service::Routes};
 use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::{
     util::{option_layer, BoxCloneService, MapResponseLayer},
-    ServiceBuilder,
+    Layer, ServiceBuilder,
 };
 
 use crate::{
-    api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
+    grpc::{CatalogApi, DissociationApi, TransportApi},
+    http::{connect, fhir, DispatchLayer},
     layers::{
         admission::Admission,
         call::CallLayer,
         compute::{ComputeLayer, ComputePool},
         connections::{self, ListenerSettings},
+        door::DoorLayers,
         grpc_strict::GrpcStrictLayer,
         panic, protocol,
         request_gate::{RequestGateLayer, MAX_HEALTH_MESSAGE_BYTES},
@@ -166,25 +186,42 @@ where
                 .max_encoding_message_size(encode),
         );
 
-    // Everything only gRPC and grpc-web requests see.
-    let grpc = grpc_stack(
+    // One per-call layer, a copy for each door: the same request id, span,
+    // deadline, metrics and log line for every call.
+    let call_layer = CallLayer::new(config.call_timeout);
+    // gRPC and grpc-web: everything only they see.
+    let grpc = call_layer.layer(grpc_stack(
         &config,
         &admission,
         compute.layer(),
         &draining,
         routes.routes().prepare(),
+    ));
+    // Connect and FHIR: the same admission, panic catching and compute pool,
+    // through the door's side of the layers.
+    let doors = DoorLayers::new(
+        call_layer,
+        admission.clone(),
+        config.request_arrival_timeout,
+        compute,
     );
-    // Everything every request sees, whatever its protocol. A dispatch by
-    // protocol (Connect, FHIR) goes between `CallLayer` and `grpc`, so that
-    // every door gets the same request id, deadline and log line, and only
-    // gRPC requests get gRPC's strictness.
-    let cors = config
-        .grpc_web
+    let connect = connect::door(
+        &doors,
+        connect::Limits {
+            max_batch_items: config.max_batch_items,
+            max_request_bytes: decode,
+            max_response_bytes: encode,
+        },
+    );
+    let fhir = fhir::door::door(&doors, decode);
+    // Everything every request sees, whatever its door: CORS (for grpc-web
+    // and for Connect from a browser), then the dispatch.
+    let cors = (config.grpc_web || !config.cors_allowed_origins.is_empty())
         .then(|| web::cors_layer(&config.cors_allowed_origins));
     let service: RequestService = BoxCloneService::new(
         ServiceBuilder::new()
             .option_layer(cors)
-            .layer(CallLayer::new(config.call_timeout))
+            .layer(DispatchLayer::new(connect, fhir))
             .service(grpc),
     );
 
@@ -305,7 +342,7 @@ fn listener_settings(config: &Config) -> ListenerSettings {
         idle_timeout: config.idle_timeout,
         max_connection_age: config.max_connection_age,
         max_connection_age_grace: config.max_connection_age_grace,
-        accept_http1: protocol::accepts_http1(config),
+        accept_http1: protocol::MAIN_ACCEPTS_HTTP1,
         max_concurrent_streams: config.max_concurrent_streams,
         keepalive_interval: config.keepalive_interval,
         keepalive_timeout: config.keepalive_timeout,
@@ -407,7 +444,7 @@ fn tls_acceptor(config: &Config) -> Result<Option<tokio_rustls::TlsAcceptor>, Se
         &read("--tls-cert", cert)?,
         &read("--tls-key", key)?,
         client_ca.as_deref(),
-        protocol::accepts_http1(config),
+        protocol::MAIN_ACCEPTS_HTTP1,
     )
     .map(Some)
     .map_err(ServeError::Tls)

@@ -15,7 +15,9 @@ use oxbind_service::physiology::shift::{
     shift_factors, standard_equivalent_po2_mmhg, ShiftDirection,
 };
 use oxbind_service::physiology::tolerance::{INVERSE_MAX_SATURATION, INVERSE_MIN_SATURATION};
-use oxbind_service::physiology::{dash, kelman, severinghaus, siggaard_andersen};
+use oxbind_service::physiology::{
+    dash, kelman, severinghaus, siggaard_andersen, siggaard_andersen_1990,
+};
 use serde::Deserialize;
 
 fn data_path(name: &str) -> String {
@@ -130,6 +132,11 @@ struct FunctionRow {
     source: String,
 }
 
+/// The Siggaard-Andersen oxygen status algorithm model.
+fn sa1990() -> Model {
+    Model::SiggaardAndersen1990(siggaard_andersen_1990::SiggaardAndersen1990)
+}
+
 fn evaluate(function: &str, x: f64) -> Result<f64, PhysiologyError> {
     let at = |ph: Option<f64>, pco2: Option<f64>, t: Option<f64>| Conditions {
         ph,
@@ -209,6 +216,33 @@ fn evaluate(function: &str, x: f64) -> Result<f64, PhysiologyError> {
         "single_point_standard_hill_p50_kelman" => {
             single_point_p50(&pair(7.30), &sev, Standardisation::Kelman)?.standard_hill_mmhg
         }
+        "sa1990_p50_hbf_mmhg" => sa1990().p50_mmhg(&Conditions {
+            hbf_fraction: Some(x),
+            ..Conditions::STANDARD
+        })?,
+        "sa1990_p50_methb_mmhg" => sa1990().p50_mmhg(&Conditions {
+            methb_fraction: Some(x),
+            ..Conditions::STANDARD
+        })?,
+        "sa1990_p50_cohb_mmhg" => sa1990().p50_mmhg(&Conditions {
+            cohb_fraction: Some(x),
+            ..Conditions::STANDARD
+        })?,
+        "sa1990_cohb_p50_linear_slope_kpa" => {
+            let with = sa1990().p50_mmhg(&Conditions {
+                cohb_fraction: Some(x),
+                ..Conditions::STANDARD
+            })?;
+            let without = sa1990().p50_mmhg(&Conditions::STANDARD)?;
+            oxbind_service::physiology::units::kpa_from_mmhg(with - without) / x
+        }
+        "sa1990_cohb_p50_ln_slope" => {
+            let with = sa1990().p50_mmhg(&Conditions {
+                cohb_fraction: Some(x),
+                ..Conditions::STANDARD
+            })?;
+            (with / sa1990().p50_mmhg(&Conditions::STANDARD)?).ln() / x
+        }
         other => panic!("unknown function {other}"),
     })
 }
@@ -241,7 +275,7 @@ fn all_models() -> Vec<Model> {
 }
 
 #[test]
-fn catalog_has_six_models_and_one_default() {
+fn catalog_has_seven_models_and_one_default() {
     // Model ids fixed by the design (design.md "Model ids").
     let ids: Vec<&str> = catalog().iter().map(|i| i.id).collect();
     assert_eq!(
@@ -252,13 +286,15 @@ fn catalog_has_six_models_and_one_default() {
             "hill",
             "adair",
             "siggaard-andersen-1984",
-            "dash-2016"
+            "dash-2016",
+            "siggaard-andersen-1990"
         ]
     );
     assert_eq!(catalog().iter().filter(|i| i.is_default).count(), 1);
     assert_eq!(DEFAULT_MODEL.info().id, "severinghaus-1979");
     for info in catalog() {
         assert!(!info.reference.is_empty(), "{} has no reference", info.id);
+        assert!(!info.notes.is_empty(), "{} has no source notes", info.id);
     }
 }
 
@@ -451,8 +487,7 @@ fn inverses_reach_the_required_accuracy_over_the_guaranteed_range() {
                 let s = 1.0 / (1.0 + (-z).exp());
                 let p = match model.tension_mmhg(s, c) {
                     Ok(p) => p,
-                    // Kelman refuses saturations below its zero crossing's reach only
-                    // outside its domain; S >= 1e-4 maps inside it.
+                    // Every model inverts every saturation of the guaranteed range.
                     Err(e) => panic!("{} S {s}: {e}", model.info().id),
                 };
                 let target = s.ln() - (-s).ln_1p();
@@ -469,21 +504,62 @@ fn inverses_reach_the_required_accuracy_over_the_guaranteed_range() {
     }
 }
 
+// Kelman 1966 over its whole range (issue 11): the low-tension branch below the
+// join, the rational function above it; continuous at the join (derived: the join
+// is where the two published pieces meet), strictly increasing from 1 mmHg up,
+// no refusal in the physiological range, and an exact inverse on both pieces.
 #[test]
-fn kelman_refuses_below_its_zero_crossing_and_never_leaves_zero_one() {
+fn kelman_is_continuous_increasing_and_invertible_over_its_whole_range() {
     let k = Model::Kelman1966(kelman::Kelman1966);
-    for p in [0.0, 1.0, 4.0, 4.66] {
-        match k.saturation(p, &Conditions::STANDARD) {
-            Err(PhysiologyError::OutsideModelDomain { model, .. }) => {
-                assert_eq!(model, "kelman-1966")
-            }
-            other => panic!("PO2 {p}: expected OutsideModelDomain, got {other:?}"),
+    let c = Conditions::STANDARD;
+    let xj = kelman::JOIN_VIRTUAL_MMHG;
+    // Both published pieces give the same saturation at the join.
+    let low = kelman::LOW_LINEAR_PER_MMHG * xj + kelman::LOW_QUADRATIC_PER_MMHG2 * xj * xj;
+    let (a, b) = (kelman::A1, kelman::A2);
+    let rational = (xj * (a + xj * (b + xj * (kelman::A3 + xj))))
+        / (kelman::A4 + xj * (kelman::A5 + xj * (kelman::A6 + xj * (kelman::A7 + xj))));
+    assert!((low - rational).abs() < 1e-15, "{low} vs {rational}");
+    assert!((low - kelman::JOIN_SATURATION).abs() < 1e-15);
+    // Continuous across the join: the two sides differ by no more than the slope
+    // times the step.
+    let below = k.saturation(xj * (1.0 - 1e-12), &c).unwrap();
+    let above = k.saturation(xj, &c).unwrap();
+    assert!((above - below).abs() < 1e-12, "{below} vs {above}");
+    // Strictly increasing from 1 mmHg up, under acid and alkaline conditions too.
+    for ph in [7.0, 7.4, 7.6] {
+        let c = Conditions {
+            ph: Some(ph),
+            ..Conditions::STANDARD
+        };
+        let mut last = k.logit_saturation(1.0, &c).unwrap();
+        let mut p = 1.0;
+        while p < 600.0 {
+            p *= 1.0005;
+            let now = k.logit_saturation(p, &c).unwrap();
+            assert!(now > last, "pH {ph}: not increasing at {p} mmHg");
+            last = now;
+        }
+        // An exact inverse on both pieces.
+        for s in [1e-4, 0.01, 0.05, 0.1, 0.1155, 0.1156, 0.2, 0.5, 0.9, 0.99] {
+            let p = k.tension_mmhg(s, &c).unwrap();
+            let back = k.saturation(p, &c).unwrap();
+            assert!(
+                (back - s).abs() < 1e-12 * s.max(1e-3),
+                "pH {ph}: S {s} -> {p} -> {back}"
+            );
         }
     }
-    // Just above the crossing the value is tiny but inside [0, 1] (derived from the
-    // coefficients).
-    let s = k.saturation(4.7, &Conditions::STANDARD).unwrap();
-    assert!((0.0..0.01).contains(&s), "{s}");
+    // PO2 0 gives 0; above the rational function's domain (R > 1 beyond
+    // 8949.9 mmHg of virtual PO2) the model still refuses.
+    assert_eq!(k.saturation(0.0, &c).unwrap(), 0.0);
+    let cold = Conditions {
+        temperature_celsius: Some(20.0),
+        ..Conditions::STANDARD
+    };
+    match k.saturation(7600.0, &cold) {
+        Err(PhysiologyError::OutsideModelDomain { model, .. }) => assert_eq!(model, "kelman-1966"),
+        other => panic!("expected OutsideModelDomain, got {other:?}"),
+    }
 }
 
 #[test]
@@ -685,7 +761,7 @@ fn saturation_and_slope_together_match_the_separate_calls() {
                     model.saturation(po2, &conditions),
                     model.hill_slope(po2, &conditions),
                 ) else {
-                    // Outside a model's domain (Kelman below about 4.7 mmHg)
+                    // Outside a model's domain (Kelman above 8949.9 mmHg virtual)
                     // both paths refuse.
                     assert!(together.is_err(), "{id} at {po2}: {together:?}");
                     continue;
@@ -701,5 +777,36 @@ fn saturation_and_slope_together_match_the_separate_calls() {
                 );
             }
         }
+    }
+}
+
+// Foetal haemoglobin binds oxygen more tightly than adult haemoglobin (P50
+// 18-20 against about 26.8 mmHg; educational sources, methods.md §4) and
+// methaemoglobin raises the oxygen affinity of the remaining haem (common
+// practice): the oxygen status algorithm honours both, as left shifts.
+#[test]
+fn siggaard_andersen_1990_shifts_left_with_foetal_and_methaemoglobin() {
+    let model = sa1990();
+    let standard = model.p50_mmhg(&Conditions::STANDARD).unwrap();
+    let foetal = model
+        .p50_mmhg(&Conditions {
+            hbf_fraction: Some(1.0),
+            ..Conditions::STANDARD
+        })
+        .unwrap();
+    assert!(
+        (18.0..=21.0).contains(&foetal) && foetal < standard,
+        "{foetal}"
+    );
+    let methb = model
+        .p50_mmhg(&Conditions {
+            methb_fraction: Some(0.05),
+            ..Conditions::STANDARD
+        })
+        .unwrap();
+    assert!(methb < standard, "{methb}");
+    for condition in [Condition::Methb, Condition::Hbf] {
+        assert!(model.info().honoured().contains(condition));
+        assert!(!DEFAULT_MODEL.info().honoured().contains(condition));
     }
 }

@@ -8,7 +8,7 @@ use oxbind_service::physiology::model::{catalog, DissociationModel, Model};
 use oxbind_service::physiology::shift::{p50_at_conditions_mmhg, shift_factors};
 use proptest::prelude::*;
 
-/// The six catalog models plus the fetal and myoglobin Hill presets.
+/// Every catalog model plus the fetal and myoglobin Hill presets.
 fn models() -> Vec<Model> {
     let mut m: Vec<Model> = catalog()
         .iter()
@@ -47,7 +47,7 @@ fn any_conditions() -> impl Strategy<Value = Conditions> {
         })
 }
 
-/// Kelman 1966 may refuse a PO2 whose virtual value falls below its zero crossing;
+/// Kelman 1966 may refuse a PO2 whose virtual value lies above its domain (8949.9 mmHg);
 /// that refusal is the specified behaviour, so the property is vacuous there.
 fn kelman_domain(model: &Model, r: &Result<f64, PhysiologyError>) -> bool {
     model.info().id == "kelman-1966" && matches!(r, Err(PhysiologyError::OutsideModelDomain { .. }))

@@ -163,7 +163,8 @@ async fn the_catalog_lists_every_model_with_its_cautions_and_limits() {
             "hill",
             "adair",
             "siggaard-andersen-1984",
-            "dash-2016"
+            "dash-2016",
+            "siggaard-andersen-1990"
         ]
     );
     let defaults: Vec<&str> = response

@@ -458,7 +458,7 @@ async fn warnings_for_unmodelled_conditions_and_validated_ranges() {
         "conditions.dpg"
     ));
     // Kelman 1966 is stated adequate above about 10 mmHg; 8 mmHg computes
-    // (above its zero crossing at 4.661) and is flagged.
+    // (on its low-tension branch) and is flagged.
     let low = client
         .saturation_from_tension(SaturationFromTensionRequest {
             po2: q(8.0, "mm[Hg]"),
@@ -576,6 +576,7 @@ async fn every_model_answers_and_the_hill_presets_apply() {
         Model::Adair,
         Model::SiggaardAndersen1984,
         Model::Dash2016,
+        Model::SiggaardAndersen1990,
     ] {
         let response = client
             .saturation_from_tension(SaturationFromTensionRequest {

@@ -2,7 +2,7 @@
 //! number the document prints in a response is asserted here to its printed
 //! precision, so the document stays true to the service.
 //!
-//! The scenario (Larkspur Valley General Hospital and its patients) is
+//! The scenario (Larchmere Valley Infirmary and its patients) is
 //! fictional. The expected values are outputs of the service itself, recorded
 //! when the document was written (derived from the engine's equations; the
 //! equations' own checks against published values live in the other
@@ -20,11 +20,12 @@ use oxbind_client::v1::{
 use oxbind_client::v1::{
     saturation_from_tension_result, tension_from_saturation_result, HillPreset, Provenance,
     ProvenancePlacement, Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
+    WarningSeverity,
 };
+use oxbind_proto::google::rpc as pb;
 use oxbind_tests::{q, TestServer};
 use prost::Message;
 use tonic::transport::Channel;
-use tonic_types::pb;
 
 fn saturation_from_tension_example() -> SaturationFromTensionRequest {
     SaturationFromTensionRequest {
@@ -240,18 +241,21 @@ fn model_of(provenance: &Option<Provenance>, id: &str, version: &str, inside: bo
     assert!(!provenance.build_commit.is_empty());
 }
 
-fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str)]) {
-    let got: Vec<(i32, &str)> = warnings
+fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str, WarningSeverity)]) {
+    let got: Vec<(i32, &str, i32)> = warnings
         .iter()
-        .map(|w| (w.code, w.field.as_str()))
+        .map(|w| (w.code, w.field.as_str(), w.severity))
         .collect();
-    let want: Vec<(i32, &str)> = expected.iter().map(|(c, f)| (*c as i32, *f)).collect();
+    let want: Vec<(i32, &str, i32)> = expected
+        .iter()
+        .map(|(c, f, s)| (*c as i32, *f, *s as i32))
+        .collect();
     assert_eq!(got, want);
 }
 
 /// A refusal's BadRequest violations (field, reason, description) and its
 /// ErrorInfo.
-fn details(details: &[prost_types::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
+fn details(details: &[oxbind_proto::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {
@@ -318,7 +322,11 @@ async fn saturation_from_tension_example_is_true() {
     );
     warnings_are(
         &r.warnings,
-        &[(WarningCode::ConditionNotModelled, "conditions.pco2")],
+        &[(
+            WarningCode::ConditionNotModelled,
+            "conditions.pco2",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -363,7 +371,11 @@ async fn tension_from_saturation_examples_are_true() {
     quantity(&plateau.po2_change_per_percent, "26.132", "mm[Hg]/%");
     warnings_are(
         &plateau.warnings,
-        &[(WarningCode::PlateauPoorlyDetermined, "saturation_fraction")],
+        &[(
+            WarningCode::PlateauPoorlyDetermined,
+            "saturation_fraction",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -468,7 +480,7 @@ async fn shift_factors_example_is_true() {
         printed(c.log10_p50_shift, shift);
         assert_eq!(c.direction, direction as i32, "{factor:?}");
     }
-    model_of(&r.provenance, "kelman-1966", "1.0.0", true);
+    model_of(&r.provenance, "kelman-1966", "1.1.0", true);
     warnings_are(&r.warnings, &[]);
     server.stop().await;
 }
@@ -520,7 +532,11 @@ async fn estimate_p50_example_is_true() {
     model_of(&o.provenance, "severinghaus-1979", "1.0.0", false);
     warnings_are(
         &o.warnings,
-        &[(WarningCode::OutsideValidatedRange, "pairs[0].conditions.ph")],
+        &[(
+            WarningCode::OutsideValidatedRange,
+            "pairs[0].conditions.ph",
+            WarningSeverity::Caution,
+        )],
     );
     server.stop().await;
 }
@@ -668,7 +684,8 @@ async fn batch_tension_from_saturation_example_is_true() {
     };
     assert_eq!(status.code, 3);
     let saturation = "requests[1].saturation_fraction must lie in [0.000001, 0.999999]: PO2 is zero at \
-saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6";
+saturation 0 and infinite at 1; the inverse is computed, to 1e-10 relative, for saturations from 1e-6 to 1 - 1e-6 \
+(this field takes a fraction between 0 and 1; send per cent divided by 100)";
     assert_eq!(status.message, saturation);
     let (violations, info) = details(&status.details);
     let violations: Vec<(&str, &str, &str)> = violations
@@ -747,7 +764,11 @@ async fn oxygen_content_example_is_true() {
     inputs_used(&w.provenance, &expected_inputs);
     warnings_are(
         &w.warnings,
-        &[(WarningCode::ConditionNotModelled, "arterial.conditions")],
+        &[(
+            WarningCode::ConditionNotModelled,
+            "arterial.conditions",
+            WarningSeverity::Informational,
+        )],
     );
     assert_eq!(
         w.warnings[0].message,
@@ -818,6 +839,11 @@ async fn list_models_example_is_true() {
                 false
             ),
             (Model::Dash2016 as i32, "dash-2016", false),
+            (
+                Model::SiggaardAndersen1990 as i32,
+                "siggaard-andersen-1990",
+                false
+            ),
         ]
     );
     let severinghaus = &r.models[0];
@@ -905,8 +931,32 @@ async fn list_models_example_is_true() {
                     ("conditions.dpg", 1.0, 12.0)
                 ]
             ),
+            (
+                ids(&[
+                    F::Ph,
+                    F::Pco2,
+                    F::Temperature,
+                    F::Dpg,
+                    F::Cohb,
+                    F::Methb,
+                    F::Hbf
+                ]),
+                vec![
+                    ("conditions.ph", 6.8, 7.8),
+                    ("conditions.pco2", 10.0, 100.0),
+                    ("conditions.temperature", 20.0, 43.0),
+                    ("conditions.dpg", 1.0, 12.0),
+                    ("conditions.cohb", 0.0, 0.3),
+                    ("conditions.methb", 0.0, 0.1)
+                ]
+            ),
         ]
     );
+    // Every model publishes its source notes (API.md 7.11).
+    for m in &r.models {
+        assert!(!m.source_notes.is_empty(), "{}", m.model_id);
+    }
+    assert!(r.models[0].source_notes.contains("0.012 at pH 7.0"));
     let kelman = &r.models[1];
     let range = &kelman.validated_ranges[0];
     assert_eq!(range.input, "po2");
@@ -962,6 +1012,15 @@ model. Pass every warning on with the value it concerns."
                 true,
                 "mm[Hg]",
                 "PRESSURE_OUT_OF_RANGE"
+            ),
+            (
+                "conditions_pco2",
+                0.001,
+                true,
+                760.0,
+                true,
+                "mm[Hg]",
+                "PCO2_OUT_OF_RANGE"
             ),
             (
                 "barometric_pressure",
@@ -1147,7 +1206,6 @@ model. Pass every warning on with the value it concerns."
     let mut ph = conditions_paths("ph", true);
     ph.push("ph".to_owned());
     let mut pressure = vec!["po2".to_owned(), "pco2".to_owned()];
-    pressure.extend(conditions_paths("pco2", true));
     pressure.extend(
         [
             "pao2",
@@ -1189,6 +1247,7 @@ model. Pass every warning on with the value it concerns."
     let expected_fields: Vec<(&str, Vec<String>)> = vec![
         ("ph", ph),
         ("pressure", pressure),
+        ("conditions_pco2", conditions_paths("pco2", true)),
         ("barometric_pressure", owned(&["barometric_pressure"])),
         ("temperature", temperature),
         (

@@ -150,7 +150,7 @@ async fn hard_limits_of_the_forward_call() {
                 },
             ),
             "conditions.pco2.value",
-            "PRESSURE_OUT_OF_RANGE",
+            "PCO2_OUT_OF_RANGE",
         ),
         (
             saturation_request(
@@ -219,8 +219,14 @@ async fn hard_limits_of_the_forward_call() {
             "HILL_N_OUT_OF_RANGE",
         ),
         (
+            // Kelman 1966 above its domain: a virtual PO2 beyond 8949.9 mmHg,
+            // where the rational function exceeds 1 (7600 mmHg at 20 Cel).
             SaturationFromTensionRequest {
-                po2: q(3.0, "mm[Hg]"),
+                po2: q(7600.0, "mm[Hg]"),
+                conditions: Some(BloodConditions {
+                    temperature: q(20.0, "Cel"),
+                    ..Default::default()
+                }),
                 model: Model::Kelman1966 as i32,
                 ..Default::default()
             },

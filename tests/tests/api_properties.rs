@@ -131,7 +131,7 @@ fn assert_refusal_names_fields(
 
 /// A batch item's refusal: INVALID_ARGUMENT, every violation naming a field
 /// under `requests[index]`.
-fn assert_item_refusal(status: &tonic_types::pb::Status, index: usize) {
+fn assert_item_refusal(status: &oxbind_proto::google::rpc::Status, index: usize) {
     assert_eq!(
         status.code,
         tonic::Code::InvalidArgument as i32,
@@ -608,6 +608,7 @@ fn list_models_answers() {
             .await
     });
     let models = accepted_or_refused(response).expect("ListModels is never refused");
-    // Six models in the v1 contract (design.md, `Model` enum).
-    assert_eq!(models.models.len(), 6);
+    // Seven models in the v1 contract (design.md's six, `Model` enum, and
+    // MODEL_SIGGAARD_ANDERSEN_1990 added by issue 11).
+    assert_eq!(models.models.len(), 7);
 }

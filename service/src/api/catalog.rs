@@ -3,11 +3,9 @@
 //! uses.
 
 use oxbind_proto::v1::{
-    model_catalog_service_server::ModelCatalogService, HillPreset, HillPresetDescription,
-    InputLimit, ListModelsRequest, ListModelsResponse, Model as WireModel, ModelDescription,
-    Quantity, UnitSystem, ValidatedRange,
+    HillPreset, HillPresetDescription, InputLimit, ListModelsRequest, ListModelsResponse,
+    Model as WireModel, ModelDescription, Quantity, UnitSystem, ValidatedRange,
 };
-use tonic::{Request, Response, Status};
 
 use super::{dissociation::shift_factor, limits, units};
 use crate::physiology::{
@@ -33,31 +31,8 @@ haemoglobin by educational sources; n 2.7 assumed (the adult value)";
 const MYOGLOBIN_PRESET_SOURCE: &str = "n 1 (a single binding site: hyperbolic curve, common \
 practice); P50 2.8 mm[Hg] at 37 Cel from memory (about 2 Torr per Wikibooks Structural Biochemistry)";
 
-/// The model catalog RPC.
-#[derive(Debug, Clone)]
-pub struct CatalogApi {
-    max_batch_items: usize,
-}
-
-impl CatalogApi {
-    /// A catalog that reports `max_batch_items` as the batch limit.
-    pub fn new(max_batch_items: usize) -> Self {
-        Self { max_batch_items }
-    }
-}
-
-#[tonic::async_trait]
-impl ModelCatalogService for CatalogApi {
-    async fn list_models(
-        &self,
-        _request: Request<ListModelsRequest>,
-    ) -> Result<Response<ListModelsResponse>, Status> {
-        Ok(Response::new(list_models(self.max_batch_items)))
-    }
-}
-
 /// The wire enum value of a catalog model id.
-fn wire_model(id: &str) -> WireModel {
+pub fn wire_model(id: &str) -> WireModel {
     match id {
         "severinghaus-1979" => WireModel::Severinghaus1979,
         "kelman-1966" => WireModel::Kelman1966,
@@ -65,6 +40,7 @@ fn wire_model(id: &str) -> WireModel {
         "adair" => WireModel::Adair,
         "siggaard-andersen-1984" => WireModel::SiggaardAndersen1984,
         "dash-2016" => WireModel::Dash2016,
+        "siggaard-andersen-1990" => WireModel::SiggaardAndersen1990,
         _ => WireModel::Unspecified,
     }
 }
@@ -127,6 +103,7 @@ fn describe(info: &ModelInfo) -> ModelDescription {
             .collect(),
         is_default: info.is_default,
         model_version: info.version.to_owned(),
+        source_notes: info.notes.to_owned(),
         hill_presets: if model == WireModel::Hill {
             [
                 (HillPreset::Adult, Hill::ADULT, ADULT_PRESET_SOURCE),
@@ -166,6 +143,15 @@ fn input_limit(limit: &limits::HardLimit) -> InputLimit {
         reason: limit.reason.to_owned(),
         error_reason: limit.error_reason.to_owned(),
     }
+}
+
+/// ListModels for one request (the request has no fields): the catalog with
+/// `max_batch_items` as the batch limit.
+pub fn compute_list_models(
+    _request: &ListModelsRequest,
+    max_batch_items: usize,
+) -> ListModelsResponse {
+    list_models(max_batch_items)
 }
 
 /// The catalog: every model and every hard input limit.

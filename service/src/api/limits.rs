@@ -5,7 +5,7 @@
 //! a model's validated range are soft limits: they compute and draw a warning
 //! (see the model descriptions in the physiology engine).
 
-use crate::physiology::{content, gas_exchange, hill, temperature};
+use crate::physiology::{conditions, content, gas_exchange, hill, temperature};
 
 /// Highest partial or barometric pressure accepted, mmHg: ten standard
 /// atmospheres, beyond any hyperbaric treatment (our judgement). The engine
@@ -112,11 +112,6 @@ pub const PRESSURE: HardLimit = HardLimit {
     fields: &[
         "po2",
         "pco2",
-        "conditions.pco2",
-        "condition_sets[].pco2",
-        "pairs[].conditions.pco2",
-        "arterial.conditions.pco2",
-        "venous.conditions.pco2",
         "pao2",
         "paco2",
         "po2_min",
@@ -136,6 +131,28 @@ pub const PRESSURE: HardLimit = HardLimit {
     max_inclusive: true,
     error_reason: "PRESSURE_OUT_OF_RANGE",
     reason: "below 0.001 mm[Hg] no analyser reads and the equations lose all precision; 7600 mm[Hg] (10 atm) is beyond any hyperbaric treatment",
+};
+
+/// The carbon dioxide tension of blood conditions (the curve-shift input).
+/// CorrectForTemperature's `pco2` and GasExchange's `paco2` are read by other
+/// equations and keep the [`PRESSURE`] limit.
+pub const CONDITIONS_PCO2: HardLimit = HardLimit {
+    input: "conditions_pco2",
+    fields: &[
+        "conditions.pco2",
+        "condition_sets[].pco2",
+        "pairs[].conditions.pco2",
+        "arterial.conditions.pco2",
+        "venous.conditions.pco2",
+    ],
+    unit: "mm[Hg]",
+    unit_key: "mmhg",
+    min: PRESSURE_MIN_MMHG,
+    min_inclusive: true,
+    max: conditions::PCO2_MAX_MMHG,
+    max_inclusive: true,
+    error_reason: "PCO2_OUT_OF_RANGE",
+    reason: "the curve-shift equations are defined up to a CO2 tension of one atmosphere (760 mm[Hg]), far above any survivable blood value; below 0.001 mm[Hg] they lose all precision",
 };
 
 /// Barometric pressure.
@@ -454,9 +471,10 @@ pub const MEASURED_PAIRS: HardLimit = HardLimit {
 };
 
 /// Every hard limit, in the order the catalog lists them.
-pub const ALL: [&HardLimit; 21] = [
+pub const ALL: [&HardLimit; 22] = [
     &PH,
     &PRESSURE,
+    &CONDITIONS_PCO2,
     &BAROMETRIC_PRESSURE,
     &TEMPERATURE,
     &SATURATION_OPEN,

@@ -17,6 +17,7 @@ use crate::physiology::{
     model::{Model, DEFAULT_MODEL},
     severinghaus::Severinghaus1979,
     siggaard_andersen::SiggaardAndersen1984,
+    siggaard_andersen_1990::SiggaardAndersen1990,
 };
 
 /// The engine model a request asks for, reading (and recording) the Hill
@@ -42,6 +43,7 @@ pub fn choose_model(
         ModelId::Adair => Model::Adair(Adair),
         ModelId::SiggaardAndersen1984 => Model::SiggaardAndersen1984(SiggaardAndersen1984),
         ModelId::Dash2016 => Model::Dash2016(Dash2016),
+        ModelId::SiggaardAndersen1990 => Model::SiggaardAndersen1990(SiggaardAndersen1990),
         ModelId::Hill => return Model::Hill(hill_parameters(reader, hill, &base.field("hill"))),
     };
     if hill.is_some() {

@@ -20,6 +20,20 @@ use crate::physiology::{
 /// parameters and the eight blood conditions), so the list rarely grows.
 const INPUTS_USED_CAPACITY: usize = 12;
 
+/// Hint for a fraction Quantity above 1 with unit `1`.
+const PERCENT_AS_QUANTITY_HINT: &str =
+    " (unit `1` means a fraction between 0 and 1; write per cent with unit `%`)";
+
+/// Hint for a plain fraction field above 1.
+const PERCENT_AS_NUMBER_HINT: &str =
+    " (this field takes a fraction between 0 and 1; send per cent divided by 100)";
+
+/// Whether a refused `value` of a fraction limit looks like a percentage
+/// (above 1, at most 100): the refusal then says how to send per cent.
+fn looks_like_percent(limit: &HardLimit, value: f64) -> bool {
+    limit.unit_key == "fraction" && value > 1.0 && value <= 100.0
+}
+
 /// Collects the inputs of one request (or one batch item).
 #[derive(Debug)]
 pub struct RequestReader {
@@ -105,8 +119,11 @@ impl RequestReader {
         let quantity = quantity?;
         let value = self.convert(quantity, path, kind)?;
         if !limit.accepts(value) {
-            self.violations
-                .push(Violation::outside_limit(&path.field("value"), limit));
+            let mut violation = Violation::outside_limit(&path.field("value"), limit);
+            if looks_like_percent(limit, value) && quantity.unit == "1" {
+                violation = violation.with_hint(PERCENT_AS_QUANTITY_HINT);
+            }
+            self.violations.push(violation);
             return None;
         }
         self.record(path, value, kind, false);
@@ -160,7 +177,11 @@ impl RequestReader {
             return None;
         }
         if !limit.accepts(value) {
-            self.violations.push(Violation::outside_limit(path, limit));
+            let mut violation = Violation::outside_limit(path, limit);
+            if looks_like_percent(limit, value) {
+                violation = violation.with_hint(PERCENT_AS_NUMBER_HINT);
+            }
+            self.violations.push(violation);
             return None;
         }
         self.record(path, value, kind, false);
@@ -242,8 +263,8 @@ impl RequestReader {
             given.pco2.as_ref(),
             "pco2",
             QuantityKind::Pressure,
-            &limits::PRESSURE,
-            engine_conditions::STANDARD_PCO2_MMHG,
+            &limits::CONDITIONS_PCO2,
+            model.standard_pco2_mmhg(),
         );
         let temperature = read(
             self,

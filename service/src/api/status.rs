@@ -1,15 +1,18 @@
-//! The one place that turns refusals into gRPC statuses.
+//! Refusals, and the one place that turns them into `google.rpc.Status`.
 //!
 //! Every refused input becomes a `google.rpc.BadRequest` field violation with
 //! its dotted path, and the status carries one `google.rpc.ErrorInfo` in domain
 //! [`ERROR_DOMAIN`] whose reason is that of the first violation (AIP-193: one
-//! detail of each type). A single call sends that `google.rpc.Status` in the
-//! `grpc-status-details-bin` trailer; a batch item carries it in its result.
-//! Status messages name fields and limits, never the values received.
+//! detail of each type). A batch item carries that `google.rpc.Status` in its
+//! result. Each door sends a refused call's status in its own shape from
+//! [`InvalidRequest::to_rpc_status`]: gRPC in the `grpc-status-details-bin`
+//! trailer ([`InvalidRequest::into_status`]), Connect in its error JSON
+//! (`crate::http::connect`). Status messages name fields and limits, never
+//! the values received.
 
+use oxbind_proto::{google::rpc as pb, Any};
 use prost::Message;
 use tonic::{Code, Status};
-use tonic_types::pb;
 
 use super::{field_path::FieldPath, limits::HardLimit, units};
 use crate::physiology::error::PhysiologyError;
@@ -41,6 +44,48 @@ pub const REASON_BATCH_EMPTY: &str = "BATCH_EMPTY";
 pub const REASON_BATCH_TOO_LARGE: &str = "BATCH_TOO_LARGE";
 /// ErrorInfo reason: the engine refused a value outside its own range.
 pub const REASON_OUT_OF_RANGE: &str = "VALUE_OUT_OF_RANGE";
+/// ErrorInfo reason: a request body that is not a message of the RPC's
+/// request type in the encoding it names (a door that decodes the message
+/// itself, such as Connect, refuses with it).
+pub const REASON_NOT_DECODABLE: &str = "MESSAGE_NOT_DECODABLE";
+
+/// Every gRPC status code a call to this server can end with, and when.
+///
+/// Only INVALID_ARGUMENT is built here; the others come from the per-call
+/// layer (RESOURCE_EXHAUSTED for the call limit, DEADLINE_EXCEEDED), from
+/// tonic (UNIMPLEMENTED, RESOURCE_EXHAUSTED for message sizes, INTERNAL),
+/// from the transport (UNAVAILABLE) or from the caller (CANCELLED). proto/
+/// API.md section 6 lists exactly these codes, and
+/// `tests/tests/api_doc_tables.rs` keeps the two equal and provokes each
+/// that a test can.
+pub const STATUS_CODES: [(Code, &str); 8] = [
+    (Code::Ok, "the call computed"),
+    (
+        Code::InvalidArgument,
+        "the input was refused (google.rpc.BadRequest names each field)",
+    ),
+    (
+        Code::ResourceExhausted,
+        "the server is at --max-concurrent-calls, or a message exceeds --max-decoded-message-bytes or --max-encoded-message-bytes",
+    ),
+    (
+        Code::DeadlineExceeded,
+        "the call outlived --call-timeout, or the caller's own shorter deadline",
+    ),
+    (
+        Code::Unavailable,
+        "the server cannot be reached, or is draining after SIGTERM or SIGINT",
+    ),
+    (
+        Code::Unimplemented,
+        "the method is not one of the v1 RPCs (a misspelt path)",
+    ),
+    (
+        Code::Internal,
+        "a fault in the server itself; the message is fixed and carries no detail",
+    ),
+    (Code::Cancelled, "the caller cancelled the call"),
+];
 
 /// One refused field.
 #[derive(Debug, Clone, PartialEq)]
@@ -72,6 +117,12 @@ impl Violation {
         }
     }
 
+    /// The same violation with `hint` appended to its description.
+    pub fn with_hint(mut self, hint: &str) -> Self {
+        self.description.push_str(hint);
+        self
+    }
+
     /// A NaN or infinite number.
     pub fn not_finite(path: &FieldPath<'_>) -> Self {
         let field = path.render();
@@ -88,6 +139,32 @@ impl Violation {
         let field = path.render();
         Self {
             description: format!("{field} is required"),
+            reason: REASON_REQUIRED,
+            metadata: Vec::new(),
+            field,
+        }
+    }
+
+    /// A field required because of what else was given: `purpose` says
+    /// what it is needed for.
+    pub fn required_for(path: &FieldPath<'_>, purpose: &str) -> Self {
+        let field = path.render();
+        Self {
+            description: format!("{field} is required for {purpose}"),
+            reason: REASON_REQUIRED,
+            metadata: Vec::new(),
+            field,
+        }
+    }
+
+    /// A field required unless one of `alternatives` is given (none was).
+    pub fn required_unless(path: &FieldPath<'_>, alternatives: &[&str]) -> Self {
+        let field = path.render();
+        Self {
+            description: format!(
+                "{field} is required unless {} is given: at least one value is needed",
+                alternatives.join(" or ")
+            ),
             reason: REASON_REQUIRED,
             metadata: Vec::new(),
             field,
@@ -126,6 +203,18 @@ impl Violation {
         }
     }
 
+    /// A request message that could not be decoded. `field` is the dotted
+    /// path where decoding stopped (empty when the message as a whole is
+    /// unreadable); `description` says why, without the value received.
+    pub fn not_decodable(field: String, description: impl Into<String>) -> Self {
+        Self {
+            description: description.into(),
+            reason: REASON_NOT_DECODABLE,
+            metadata: Vec::new(),
+            field,
+        }
+    }
+
     /// An engine refusal, for the field at `path`.
     pub fn from_physiology(path: &FieldPath<'_>, error: &PhysiologyError) -> Self {
         Self::from_physiology_at(path.render(), error)
@@ -135,20 +224,43 @@ impl Violation {
     pub fn from_physiology_at(field: String, error: &PhysiologyError) -> Self {
         let (reason, metadata) = match error {
             PhysiologyError::NotFinite { .. } => (REASON_NOT_FINITE, Vec::new()),
-            PhysiologyError::OutOfRange { min, max, .. } => (
-                REASON_OUT_OF_RANGE,
-                vec![
-                    ("min".to_owned(), min.to_string()),
-                    ("max".to_owned(), max.to_string()),
-                ],
-            ),
-            PhysiologyError::OutsideModelDomain { limit, model, .. } => (
-                REASON_MODEL_DOMAIN,
-                vec![
-                    ("model_id".to_owned(), (*model).to_owned()),
-                    ("limit".to_owned(), limit.to_string()),
-                ],
-            ),
+            PhysiologyError::OutOfRange {
+                input, min, max, ..
+            } => {
+                // The engine's "greater than 0" is the smallest positive
+                // double, and "no upper limit" is infinity: both are stated
+                // plainly, as the hard-limit table states its limits.
+                let (min_text, min_inclusive) = engine_bound(*min);
+                let (max_text, max_inclusive) = engine_bound(*max);
+                let range = engine_range(*min, *max, units::input_unit(*input));
+                return Self {
+                    description: format!("{field} must lie in {range}"),
+                    reason: REASON_OUT_OF_RANGE,
+                    metadata: vec![
+                        ("min".to_owned(), min_text),
+                        ("max".to_owned(), max_text),
+                        ("min_inclusive".to_owned(), min_inclusive.to_string()),
+                        ("max_inclusive".to_owned(), max_inclusive.to_string()),
+                    ],
+                    field,
+                };
+            }
+            PhysiologyError::OutsideModelDomain { limit, model, .. } => {
+                // The limit is model-specific (Kelman's is a virtual PO2),
+                // so it is stated, readably, without a unit.
+                return Self {
+                    description: format!(
+                        "{field} lies outside the domain where the equation of model {model} is defined (limit {})",
+                        readable(*limit)
+                    ),
+                    reason: REASON_MODEL_DOMAIN,
+                    metadata: vec![
+                        ("model_id".to_owned(), (*model).to_owned()),
+                        ("limit".to_owned(), limit.to_string()),
+                    ],
+                    field,
+                };
+            }
             PhysiologyError::NotInformative { .. } => (REASON_NOT_INFORMATIVE, Vec::new()),
             PhysiologyError::Inconsistent { .. } => (REASON_INCONSISTENT, Vec::new()),
         };
@@ -161,6 +273,54 @@ impl Violation {
             field,
         }
     }
+}
+
+/// A number as a person reads it: at most six decimals, no trailing zeros
+/// (`760`, `0.001`, `0.999999`), never the full expansion of a tiny double.
+pub fn readable(value: f64) -> String {
+    if value.is_infinite() {
+        return if value > 0.0 { "infinity" } else { "-infinity" }.to_owned();
+    }
+    let text = format!("{value:.6}");
+    let text = text.trim_end_matches('0').trim_end_matches('.');
+    match text {
+        "" | "-0" => "0".to_owned(),
+        other => other.to_owned(),
+    }
+}
+
+/// An engine bound as metadata text and whether it is included: the
+/// smallest positive double means "above 0" (0, excluded).
+fn engine_bound(bound: f64) -> (String, bool) {
+    if bound == f64::MIN_POSITIVE {
+        ("0".to_owned(), false)
+    } else if bound.is_infinite() {
+        (readable(bound), false)
+    } else {
+        (readable(bound), true)
+    }
+}
+
+/// An engine range in interval notation, e.g. `(0, 760] mm[Hg]`, or
+/// `(0, no upper limit) mm[Hg]`.
+fn engine_range(min: f64, max: f64, unit: &str) -> String {
+    let (min_text, min_inclusive) = engine_bound(min);
+    let (max_text, max_inclusive) = engine_bound(max);
+    let max_text = if max.is_infinite() {
+        "no upper limit".to_owned()
+    } else {
+        max_text
+    };
+    let unit = if unit.is_empty() || unit == "1" {
+        String::new()
+    } else {
+        format!(" {unit}")
+    };
+    format!(
+        "{}{min_text}, {max_text}{}{unit}",
+        if min_inclusive { "[" } else { "(" },
+        if max_inclusive { "]" } else { ")" },
+    )
 }
 
 /// A request refused for one or more bad fields.
@@ -241,8 +401,8 @@ impl InvalidRequest {
             code: Code::InvalidArgument as i32,
             message: self.message(),
             details: vec![
-                any("google.rpc.BadRequest", &bad_request),
-                any("google.rpc.ErrorInfo", &error_info),
+                Any::pack(tonic_types::BadRequest::TYPE_URL, &bad_request),
+                Any::pack(tonic_types::ErrorInfo::TYPE_URL, &error_info),
             ],
         }
     }
@@ -264,20 +424,70 @@ impl From<InvalidRequest> for Status {
     }
 }
 
-fn any(type_name: &str, message: &impl Message) -> prost_types::Any {
-    prost_types::Any {
-        type_url: format!("type.googleapis.com/{type_name}"),
-        value: message.encode_to_vec(),
-    }
-}
-
 /// A refusal for a batch as a whole (empty, or over the item limit).
-pub fn batch_refusal(reason: &'static str, description: String, limit: usize) -> Status {
+pub fn batch_refusal(reason: &'static str, description: String, limit: usize) -> InvalidRequest {
     let violation = Violation {
         field: "requests".to_owned(),
         reason,
         description,
         metadata: vec![("max_items".to_owned(), limit.to_string())],
     };
-    InvalidRequest::one(violation).into_status()
+    InvalidRequest::one(violation)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::physiology::error::Input;
+
+    #[test]
+    fn numbers_read_plainly() {
+        assert_eq!(readable(760.0), "760");
+        assert_eq!(readable(0.001), "0.001");
+        assert_eq!(readable(1.0 - 1e-6), "0.999999");
+        assert_eq!(readable(0.03 * 100.0), "3");
+        assert_eq!(readable(-2.0), "-2");
+        assert_eq!(readable(f64::MIN_POSITIVE), "0");
+    }
+
+    #[test]
+    fn an_engine_range_never_prints_the_smallest_double() {
+        let error = PhysiologyError::OutOfRange {
+            input: Input::Pco2,
+            value: 1000.0,
+            min: f64::MIN_POSITIVE,
+            max: 760.0,
+        };
+        let v = Violation::from_physiology_at("conditions.pco2.value".to_owned(), &error);
+        assert_eq!(
+            v.description,
+            "conditions.pco2.value must lie in (0, 760] mm[Hg]"
+        );
+        assert!(v.metadata.contains(&("min".to_owned(), "0".to_owned())));
+        assert!(v
+            .metadata
+            .contains(&("min_inclusive".to_owned(), "false".to_owned())));
+        let open = PhysiologyError::OutOfRange {
+            input: Input::Spo2,
+            value: 0.0,
+            min: f64::MIN_POSITIVE,
+            max: f64::INFINITY,
+        };
+        let domain = PhysiologyError::OutsideModelDomain {
+            input: Input::Po2,
+            value: 3.0,
+            limit: 4.661_189_645_824_274,
+            model: "kelman-1966",
+        };
+        let v = Violation::from_physiology_at("po2.value".to_owned(), &domain);
+        assert_eq!(
+            v.description,
+            "po2.value lies outside the domain where the equation of model kelman-1966 is defined (limit 4.66119)"
+        );
+        let v = Violation::from_physiology_at("spo2_fraction".to_owned(), &open);
+        assert_eq!(
+            v.description,
+            "spo2_fraction must lie in (0, no upper limit)"
+        );
+    }
 }

@@ -1,25 +1,26 @@
 //! `oxbind.v1.OxygenTransportService`: oxygen content, delivery and
-//! consumption, and gas-exchange indices.
+//! consumption, and gas-exchange indices; one transport-neutral function per
+//! RPC (see [`super::dissociation`] for the pattern).
 
 use oxbind_proto::v1::{
-    oxygen_transport_service_server::OxygenTransportService, AlveolarEquation, BloodSample,
-    GasExchangeRequest, GasExchangeResponse, InputUsed, OxygenContentRequest,
-    OxygenContentResponse, Quantity, SaturationKind as WireSaturationKind, Warning, WarningCode,
+    AlveolarEquation, BloodSample, GasExchangeRequest, GasExchangeResponse, InputUsed,
+    OxygenContentRequest, OxygenContentResponse, Quantity, SaturationKind as WireSaturationKind,
+    Warning, WarningCode,
 };
-use tonic::{Request, Response, Status};
 
 use super::{
     field_path::FieldPath,
     limits,
     model_choice::choose_model,
-    observe,
+    observe::Observed,
     provenance::{self, Method},
     reader::RequestReader,
     status::{InvalidRequest, Violation, REASON_INCONSISTENT, REASON_UNKNOWN_ENUM},
     units::{self, QuantityKind},
-    warnings::warning,
+    warnings::{condition_field, warning},
 };
 use crate::physiology::{
+    conditions::Condition,
     content::{self, BloodOxygenSample, OxygenTransportInput, SaturationKind},
     error::{Input, PhysiologyError},
     gas_exchange::{self, AlveolarGasForm, AlveolarGasInput, ShuntInput},
@@ -44,38 +45,6 @@ and oxygen saturation indices; PaO2 imputed from SpO2 by the nonlinear method of
 Chest 2016;150(2):307-313 (the Ellis 1989 inverse of Severinghaus 1979 Eq. 1)",
     doi: "10.1016/j.chest.2016.01.003",
 };
-
-/// The oxygen content and gas-exchange RPCs.
-#[derive(Debug, Clone, Default)]
-pub struct TransportApi;
-
-impl TransportApi {
-    /// A new handler.
-    pub fn new() -> Self {
-        Self
-    }
-}
-
-#[tonic::async_trait]
-impl OxygenTransportService for TransportApi {
-    async fn oxygen_content(
-        &self,
-        request: Request<OxygenContentRequest>,
-    ) -> Result<Response<OxygenContentResponse>, Status> {
-        let response = compute_oxygen_content(request.get_ref())?;
-        observe::result(response.provenance.as_ref(), &response.warnings);
-        Ok(Response::new(response))
-    }
-
-    async fn gas_exchange(
-        &self,
-        request: Request<GasExchangeRequest>,
-    ) -> Result<Response<GasExchangeResponse>, Status> {
-        let response = compute_gas_exchange(request.get_ref())?;
-        observe::result(response.provenance.as_ref(), &response.warnings);
-        Ok(Response::new(response))
-    }
-}
 
 /// A blood sample read from the request, with its saturation resolved.
 struct ReadSample {
@@ -180,7 +149,8 @@ fn read_sample(
         None => match model.saturation(po2, &conditions) {
             Ok(s) => (s, true, SaturationKind::Functional),
             Err(e) => {
-                reader.refuse(Violation::from_physiology(&po2_path.field("value"), &e));
+                let field = sample_engine_field(e.input(), path, &conditions_path);
+                reader.refuse(Violation::from_physiology_at(field, &e));
                 return None;
             }
         },
@@ -196,6 +166,20 @@ fn read_sample(
         calculated,
         unused_conditions,
     })
+}
+
+/// The request field an engine refusal names when a sample's saturation is
+/// calculated: a condition under the sample's `conditions`, a Hill parameter
+/// under its `hill`, and anything else its PO2.
+fn sample_engine_field(input: Input, sample: &FieldPath<'_>, conditions: &FieldPath<'_>) -> String {
+    let condition = Condition::ALL.iter().copied().find(|c| c.input() == input);
+    match (input, condition) {
+        (_, Some(Condition::Ph)) => conditions.field("ph").render(),
+        (_, Some(c)) => conditions.field(condition_field(c)).field("value").render(),
+        (Input::P50, _) => sample.field("hill").field("p50").field("value").render(),
+        (Input::HillN, _) => sample.field("hill").field("n").render(),
+        _ => sample.field("po2").field("value").render(),
+    }
 }
 
 /// The default Hüfner factor as used: it depends on the saturation kind, so
@@ -263,6 +247,12 @@ fn engine_refusal(error: &PhysiologyError) -> InvalidRequest {
 
 /// OxygenContent for one request.
 pub fn compute_oxygen_content(
+    request: &OxygenContentRequest,
+) -> Result<OxygenContentResponse, InvalidRequest> {
+    oxygen_content_response(request).inspect(Observed::observe)
+}
+
+fn oxygen_content_response(
     request: &OxygenContentRequest,
 ) -> Result<OxygenContentResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
@@ -345,8 +335,18 @@ pub fn compute_oxygen_content(
     })
 }
 
+/// Why the shunt inputs are required together.
+const SHUNT_PURPOSE: &str =
+    "the shunt fraction, which hemoglobin, arterial and venous serve (one of them was given)";
+
 /// GasExchange for one request.
 pub fn compute_gas_exchange(
+    request: &GasExchangeRequest,
+) -> Result<GasExchangeResponse, InvalidRequest> {
+    gas_exchange_response(request).inspect(Observed::observe)
+}
+
+fn gas_exchange_response(
     request: &GasExchangeRequest,
 ) -> Result<GasExchangeResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
@@ -423,35 +423,50 @@ pub fn compute_gas_exchange(
             AlveolarGasForm::Full
         }
     };
-    // The shunt needs haemoglobin, PaO2 and a venous sample; the arterial
-    // sample defaults to one built from pao2.
-    let wants_shunt = hemoglobin.is_some() && request.venous.is_some();
+    // The samples and the haemoglobin serve only the shunt fraction: any of
+    // them given asks for it, and then everything it needs is required, so
+    // that nothing given is ignored. The arterial sample's PO2 defaults to
+    // pao2; both given must agree, whether or not the shunt is computed.
     let arterial_path = root.field("arterial");
-    let arterial = if wants_shunt {
-        let given = request.arterial.clone().unwrap_or_default();
-        if let (Some(own), Some(pao2)) = (given.po2.as_ref(), pao2) {
-            if let Ok(own) = units::to_engine(own.value, &own.unit, QuantityKind::Pressure) {
-                if (own - pao2).abs() > 1e-9 * pao2 {
-                    reader.refuse(Violation::other(
-                        &arterial_path.field("po2"),
-                        REASON_INCONSISTENT,
-                        "differs from pao2; give one value",
-                    ));
-                }
+    let given_arterial = request.arterial.clone().unwrap_or_default();
+    if let (Some(own), Some(pao2)) = (given_arterial.po2.as_ref(), pao2) {
+        if let Ok(own) = units::to_engine(own.value, &own.unit, QuantityKind::Pressure) {
+            if (own - pao2).abs() > 1e-9 * pao2 {
+                reader.refuse(Violation::other(
+                    &arterial_path.field("po2"),
+                    REASON_INCONSISTENT,
+                    "differs from pao2; give one value",
+                ));
             }
         }
-        read_sample(&mut reader, &given, &arterial_path, pao2)
-    } else {
-        None
-    };
-    let venous = if wants_shunt {
-        request
+    }
+    let wants_shunt =
+        request.hemoglobin.is_some() || request.venous.is_some() || request.arterial.is_some();
+    let mut arterial = None;
+    let mut venous = None;
+    if wants_shunt {
+        for (missing, name) in [
+            (request.hemoglobin.is_none(), "hemoglobin"),
+            (request.venous.is_none(), "venous"),
+            (request.paco2.is_none(), "paco2"),
+        ] {
+            if missing {
+                reader.refuse(Violation::required_for(&root.field(name), SHUNT_PURPOSE));
+            }
+        }
+        match (given_arterial.po2.is_some(), request.pao2.is_some()) {
+            (false, false) => {
+                reader.refuse(Violation::required_for(&root.field("pao2"), SHUNT_PURPOSE));
+            }
+            // A pao2 that was given but refused is already named.
+            (false, true) if pao2.is_none() => {}
+            _ => arterial = read_sample(&mut reader, &given_arterial, &arterial_path, pao2),
+        }
+        venous = request
             .venous
             .as_ref()
-            .and_then(|v| read_sample(&mut reader, v, &root.field("venous"), None))
-    } else {
-        None
-    };
+            .and_then(|v| read_sample(&mut reader, v, &root.field("venous"), None));
+    }
     let mut inputs_used = reader.finish()?;
     let fio2 = fio2.unwrap_or(gas_exchange::FIO2_MIN_FRACTION);
     let refuse = |e: PhysiologyError| engine_refusal(&e);

@@ -8,7 +8,7 @@
 
 use oxbind_proto::v1::{Quantity, UnitSystem};
 
-use crate::physiology::units as engine;
+use crate::physiology::{error::Input, units as engine};
 
 /// What a quantity measures, which fixes its engine unit and the UCUM codes
 /// accepted for it.
@@ -47,6 +47,28 @@ pub fn engine_unit(kind: QuantityKind) -> &'static str {
         QuantityKind::BloodFlow => "L/min",
         QuantityKind::OxygenContent => "mL/dL",
         QuantityKind::OxygenFlow => "mL/min",
+    }
+}
+
+/// The UCUM code of the engine unit an engine input is checked in (empty
+/// for dimensionless inputs and pH), for refusals that state a limit.
+pub fn input_unit(input: Input) -> &'static str {
+    match input {
+        Input::Po2
+        | Input::Pco2
+        | Input::P50
+        | Input::VenousPo2
+        | Input::BarometricPressure
+        | Input::Paco2
+        | Input::Pao2
+        | Input::AlveolarPo2 => "mm[Hg]",
+        Input::Temperature | Input::MeasuredTemperature | Input::TargetTemperature => "Cel",
+        Input::Dpg | Input::BaseExcess => "mmol/L",
+        Input::Hemoglobin => "g/dL",
+        Input::HufnerFactor => "mL/g",
+        Input::CardiacOutput => "L/min",
+        Input::MeanAirwayPressure => "cm[H2O]",
+        _ => "",
     }
 }
 

@@ -1,9 +1,9 @@
 //! Soft-limit warnings: computed results the caller should know how far to
 //! trust.
 
-use oxbind_proto::v1::{Warning, WarningCode};
+use oxbind_proto::v1::{Warning, WarningCode, WarningSeverity};
 
-use super::field_path::FieldPath;
+use super::{field_path::FieldPath, standard_ranges, status::readable, units};
 use crate::physiology::{
     conditions::{Condition, Conditions},
     error::Input,
@@ -16,12 +16,42 @@ use crate::physiology::{
 /// 0.99 (derived from the Ellis inverse, reference/methods.md section 2).
 pub const PLATEAU_SATURATION: f64 = 0.97;
 
-/// A warning with `code` on `field`.
+/// A warning with `code` on `field`, with the code's usual severity
+/// ([`usual_severity`]).
 pub fn warning(code: WarningCode, field: String, message: impl Into<String>) -> Warning {
+    with_severity(code, usual_severity(code), field, message)
+}
+
+/// A warning with `code` and an explicit `severity` on `field`.
+pub fn with_severity(
+    code: WarningCode,
+    severity: WarningSeverity,
+    field: String,
+    message: impl Into<String>,
+) -> Warning {
     Warning {
         code: code as i32,
         field,
         message: message.into(),
+        severity: severity as i32,
+    }
+}
+
+/// The severity a warning code carries unless the finding says otherwise.
+///
+/// Every finding that bears on how far the number can be trusted is a
+/// caution. A condition the model ignores is informational by default (a
+/// sample's conditions not needed beside a measured saturation); an ignored
+/// blood condition is graded by its value in [`unmodelled_conditions`].
+pub fn usual_severity(code: WarningCode) -> WarningSeverity {
+    match code {
+        WarningCode::ConditionNotModelled => WarningSeverity::Informational,
+        WarningCode::Unspecified
+        | WarningCode::OutsideValidatedRange
+        | WarningCode::PlateauPoorlyDetermined
+        | WarningCode::ImputationNotValid
+        | WarningCode::Extrapolated
+        | WarningCode::SaturationCalculated => WarningSeverity::Caution,
     }
 }
 
@@ -39,7 +69,10 @@ pub fn condition_field(condition: Condition) -> &'static str {
     }
 }
 
-/// Warn for every condition given that `model` does not honour.
+/// Warn for every condition given that `model` does not honour: an
+/// informational warning when the value lies inside the condition's standard
+/// physiological range ([`standard_ranges`]), a caution when it lies outside
+/// (the curve would have moved had the model taken it into account).
 pub fn unmodelled_conditions(
     model: &Model,
     conditions: &Conditions,
@@ -47,14 +80,30 @@ pub fn unmodelled_conditions(
     out: &mut Vec<Warning>,
 ) {
     for condition in model.unmodelled_conditions(conditions) {
+        let range = standard_ranges::standard_range(condition);
+        let inside = range.is_some_and(|r| r.contains(condition_value(conditions, condition)));
         // Appended rather than formatted: in a batch this runs for many items.
-        let mut message = String::with_capacity(96);
+        let mut message = String::with_capacity(160);
         message.push_str("model ");
         message.push_str(model.info().id);
         message
             .push_str(" does not take this condition into account; it did not affect the result");
-        out.push(warning(
+        if let Some(range) = range {
+            message.push_str(if inside {
+                "; the value given lies inside its standard range, "
+            } else {
+                "; the value given lies outside its standard range, "
+            });
+            message.push_str(&range.describe());
+        }
+        let severity = if inside {
+            WarningSeverity::Informational
+        } else {
+            WarningSeverity::Caution
+        };
+        out.push(with_severity(
             WarningCode::ConditionNotModelled,
+            severity,
             path.field(condition_field(condition)).render(),
             message,
         ));
@@ -119,12 +168,21 @@ pub fn validated_ranges(
                 (None, Some(name)) => conditions_path.field(name).render(),
                 (None, None) => String::new(),
             };
+            let unit = units::input_unit(range.input);
+            let unit = if unit.is_empty() {
+                String::new()
+            } else {
+                format!(" {unit}")
+            };
             out.push(warning(
                 WarningCode::OutsideValidatedRange,
                 field,
                 format!(
-                    "outside the range model {} was validated for ({} to {})",
-                    info.id, range.min, range.max
+                    "{} lies outside the range model {} was validated for, {} to {}{unit}",
+                    range.input,
+                    info.id,
+                    readable(range.min),
+                    readable(range.max)
                 ),
             ));
         }

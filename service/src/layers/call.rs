@@ -16,9 +16,15 @@
 //!   call the client abandons (resets, or disconnects) is recorded as
 //!   CANCELLED.
 //!
-//! It is protocol-neutral (any request, any answer with a `grpc-status`),
-//! so it sits in front of whatever dispatch picks the protocol. Load
-//! shedding and admission are the request gate's ([`super::request_gate`]).
+//! It is protocol-neutral (any request; an answer with a `grpc-status`, or
+//! a [`CallOutcome`] set by a door whose answers carry none), so each door
+//! behind the dispatch (`http::DispatchLayer`) wraps its calls in a copy of
+//! it: the gRPC stack, the Connect door and the FHIR door
+//! ([`super::door`]), each of which turns the layer's own answers (a passed
+//! deadline) into its protocol's shape. `rpc.system.name` is `grpc` for
+//! gRPC and grpc-web, `connect_rpc` for Connect and `fhir` for the FHIR
+//! door. Load shedding and admission are the request gate's
+//! ([`super::request_gate`]) and the doors' ([`super::admission`]).
 
 use std::{
     future::Future,
@@ -47,7 +53,7 @@ use super::{
     protocol::{call_kind, CallKind},
     statuses,
 };
-use crate::telemetry::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
+use crate::instruments::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
 
 /// Metadata key of the request id, read from the request and echoed back.
 pub const REQUEST_ID_HEADER: &str = "x-request-id";
@@ -64,7 +70,7 @@ const TIMER_MARGIN: Duration = Duration::from_millis(1);
 const HEALTH_PATH_PREFIX: &str = "/grpc.health.v1.Health/";
 
 /// Every method the server serves, fully qualified as `rpc.method` wants it.
-const KNOWN_METHODS: [&str; 16] = [
+const KNOWN_METHODS: [&str; 20] = [
     "oxbind.v1.DissociationService/SaturationFromTension",
     "oxbind.v1.DissociationService/TensionFromSaturation",
     "oxbind.v1.DissociationService/SampleCurve",
@@ -81,7 +87,19 @@ const KNOWN_METHODS: [&str; 16] = [
     "grpc.health.v1.Health/List",
     "grpc.reflection.v1.ServerReflection/ServerReflectionInfo",
     "grpc.reflection.v1alpha.ServerReflection/ServerReflectionInfo",
+    // The FHIR door (http/fhir): its operation and conformance reads.
+    "fhir/r4/$derive-oxygen-values",
+    "fhir/r4/metadata",
+    "fhir/r4/OperationDefinition/derive-oxygen-values",
+    "fhir/r4/CodeSystem/oxygen-derived-values",
 ];
+
+/// Path prefix of the FHIR door, whose calls are recorded as [`FHIR_SYSTEM`].
+const FHIR_PATH_PREFIX: &str = "/fhir/r4/";
+
+/// `rpc.system.name` of a call to the FHIR door (a name of our own: the
+/// semantic conventions name none for FHIR).
+const FHIR_SYSTEM: &str = "fhir";
 
 /// `rpc.method` for a method the server does not know (semantic conventions).
 pub(crate) const OTHER_METHOD: &str = "_OTHER";
@@ -153,6 +171,11 @@ where
         let method = method_name(path);
         let is_health = path.starts_with(HEALTH_PATH_PREFIX);
         let request_id = request_id_of(request.headers());
+        let system = if path.starts_with(FHIR_PATH_PREFIX) {
+            FHIR_SYSTEM
+        } else {
+            rpc_system(request.headers())
+        };
         let timeout = parse_grpc_timeout(request.headers()).map_or(self.shared.call_timeout, |t| {
             t.min(self.shared.call_timeout)
         });
@@ -167,7 +190,7 @@ where
                 "grpc.call",
                 otel.name = method,
                 otel.kind = "server",
-                rpc.system.name = "grpc",
+                rpc.system.name = system,
                 rpc.method = method,
                 rpc.status_code = Empty,
                 request_id = %request_id,
@@ -175,7 +198,7 @@ where
                 oxbind.warning_codes = Empty,
             )
         };
-        let trace_id = if telemetry::traces_exported() && !span.is_none() {
+        let trace_id = if instruments::traces_exported() && !span.is_none() {
             let _ = span.set_parent(parent);
             span.context().span().span_context().trace_id()
         } else {
@@ -186,6 +209,7 @@ where
         let mut record = CallRecord {
             start,
             method,
+            system,
             request_id,
             trace_id,
             span: span.clone(),
@@ -223,6 +247,7 @@ where
 struct CallRecord {
     start: Instant,
     method: &'static str,
+    system: &'static str,
     request_id: String,
     trace_id: TraceId,
     span: Span,
@@ -275,11 +300,11 @@ impl Drop for CallRecord {
             self.span.set_attribute("error.type", name);
         }
         let attributes = [
-            KeyValue::new("rpc.system.name", "grpc"),
+            KeyValue::new("rpc.system.name", self.system),
             KeyValue::new("rpc.method", self.method),
             KeyValue::new("rpc.status_code", name),
         ];
-        let instruments = telemetry::instruments();
+        let instruments = instruments::instruments();
         instruments
             .call_duration
             .record(elapsed.as_secs_f64(), &attributes);
@@ -450,7 +475,7 @@ fn count_refused_fields(headers: &HeaderMap) {
     {
         if let Ok(bad) = tonic_types::pb::BadRequest::decode(detail.value.as_slice()) {
             for violation in &bad.field_violations {
-                telemetry::record_refused_input(&violation.field);
+                instruments::record_refused_input(&violation.field);
             }
         }
     }
@@ -465,6 +490,21 @@ pub fn method_name(path: &str) -> &'static str {
         .find(|known| **known == path)
         .copied()
         .unwrap_or(OTHER_METHOD)
+}
+
+/// `rpc.system.name` of a call (OpenTelemetry RPC semantic conventions):
+/// `grpc` for gRPC and grpc-web, `connect_rpc` for the Connect protocol
+/// (the only other door this layer wraps).
+pub fn rpc_system(headers: &HeaderMap) -> &'static str {
+    let grpc = headers
+        .get(http::header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|t| t.starts_with("application/grpc"));
+    if grpc {
+        "grpc"
+    } else {
+        "connect_rpc"
+    }
 }
 
 /// The caller's request id if it is short and made only of letters, digits
@@ -659,6 +699,23 @@ mod tests {
         map.insert("x-request-id", HeaderValue::from_str(&long).unwrap());
         assert_eq!(request_id_of(&map).len(), 36);
         assert_eq!(request_id_of(&HeaderMap::new()).len(), 36);
+    }
+
+    #[test]
+    fn grpc_and_grpc_web_calls_are_grpc_and_the_rest_connect() {
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/grpc")])),
+            "grpc"
+        );
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/grpc-web+proto")])),
+            "grpc"
+        );
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/json")])),
+            "connect_rpc"
+        );
+        assert_eq!(rpc_system(&HeaderMap::new()), "connect_rpc");
     }
 
     #[test]

@@ -17,6 +17,11 @@
 //!
 //! A panic in a handler running on the pool is carried back to the calling
 //! task, where the panic layer above catches it as it would any other.
+//!
+//! Both doors that compute v1 calls use the one pool: the gRPC stack through
+//! [`ComputeLayer`] (the request gate has counted the work), and the Connect
+//! door through [`ComputePool::run`] once it has read and counted its
+//! request ([`super::door`]).
 
 use std::{
     future::Future,
@@ -27,7 +32,7 @@ use std::{
 
 use http::{Request, Response};
 use tokio::runtime::Handle;
-use tonic::body::Body;
+use tonic::{body::Body, Status};
 use tower::{Layer, Service};
 
 use http_body_util::BodyExt;
@@ -84,6 +89,39 @@ impl ComputePool {
             handle: self.handle.clone(),
         }
     }
+
+    /// Run `work` (a door's decode, compute and encode of a call of
+    /// [`OFFLOAD_MIN_ITEMS`] or more) on the pool and wait for it; for a
+    /// door beside gRPC that reads its request itself (Connect).
+    ///
+    /// # Errors
+    ///
+    /// UNAVAILABLE when the pool is shutting down with the process. A panic
+    /// in `work` is carried back to the caller.
+    pub async fn run<T: Send + 'static>(
+        &self,
+        work: impl FnOnce() -> T + Send + 'static,
+    ) -> Result<T, Status> {
+        on_pool(&self.handle, async move { work() }).await
+    }
+}
+
+/// Run `future` on the pool behind `handle` and wait for it. Abandoned by
+/// the caller, the task stops at its next await (a handler computing a
+/// batch finishes that first); a panic is carried back to the caller, where
+/// the panic layer above catches it as it would any other.
+async fn on_pool<F>(handle: &Handle, future: F) -> Result<F::Output, Status>
+where
+    F: Future + Send + 'static,
+    F::Output: Send + 'static,
+{
+    let mut task = AbortOnDrop(handle.spawn(future));
+    match (&mut task.0).await {
+        Ok(output) => Ok(output),
+        Err(error) if error.is_panic() => std::panic::resume_unwind(error.into_panic()),
+        // Cancelled: the pool is shutting down with the server.
+        Err(_) => Err(statuses::shutting_down()),
+    }
 }
 
 /// Sends large calls to the compute pool.
@@ -134,19 +172,15 @@ where
         if !heavy {
             return Box::pin(inner.call(request));
         }
-        let task = self.handle.spawn(async move {
-            let response = inner.call(request).await?;
-            Ok(encoded(response).await)
-        });
+        let handle = self.handle.clone();
         Box::pin(async move {
-            // Abandoned by the client: stop the task at its next await (a
-            // handler computing a batch finishes that first).
-            let mut task = AbortOnDrop(task);
-            match (&mut task.0).await {
+            let work = async move {
+                let response = inner.call(request).await?;
+                Ok(encoded(response).await)
+            };
+            match on_pool(&handle, work).await {
                 Ok(result) => result,
-                Err(error) if error.is_panic() => std::panic::resume_unwind(error.into_panic()),
-                // Cancelled: the pool is shutting down with the server.
-                Err(_) => Ok(statuses::shutting_down().into_http()),
+                Err(status) => Ok(status.into_http()),
             }
         })
     }

@@ -67,7 +67,7 @@ use tonic::body::Body;
 use tower::Service;
 
 use super::body::Holding;
-use crate::telemetry;
+use crate::instruments;
 
 /// Pause after a failed `accept` (for example out of file descriptors) before
 /// trying again, so the loop never spins.
@@ -116,7 +116,7 @@ pub struct ListenerSettings {
     /// connection is closed.
     pub max_connection_age_grace: Duration,
     /// Whether HTTP/1.1 is spoken beside HTTP/2 (see
-    /// [`super::protocol::accepts_http1`]).
+    /// [`super::protocol::MAIN_ACCEPTS_HTTP1`]).
     pub accept_http1: bool,
     /// Concurrent HTTP/2 streams per connection.
     pub max_concurrent_streams: u32,
@@ -407,7 +407,7 @@ impl CloseReason {
 
 fn record_close(settings: &ListenerSettings, peer: SocketAddr, reason: CloseReason) {
     tracing::debug!(listener = settings.name, %peer, reason = reason.name(), "closing connection");
-    telemetry::record_connection_closed(settings.name, reason.name());
+    instruments::record_connection_closed(settings.name, reason.name());
 }
 
 /// One connection from accept to close; holds `_permit` (one of the

@@ -5,14 +5,17 @@
 //!   protocol, "Content-Type"), with grpc-web's types only when grpc-web is
 //!   on;
 //! - a method other than POST: HTTP 405 with `Allow: POST`;
-//! - plain gRPC over HTTP/1.1: HTTP 400 (only grpc-web may use it);
+//! - plain gRPC over HTTP/1.1: HTTP 505 (gRPC is defined over HTTP/2
+//!   only; the listener speaks HTTP/1.1 for Connect, FHIR and grpc-web);
 //! - a grpc-web call from a browser `Origin` that is not allowed: HTTP 403,
 //!   instead of computing it and leaving out only the CORS header. A call
 //!   with no `Origin` (not from a browser) is not affected.
 //!
-//! This layer sees only the requests that reach the gRPC stack: a dispatch
-//! in front of it (Connect, FHIR) takes its own requests first. The content
-//! type tests are [`super::protocol`]'s. A second message on a unary call is
+//! This layer sees only the requests that reach the gRPC stack: the
+//! dispatch in front of it (`http::DispatchLayer`) sends Connect's and
+//! FHIR's requests to their own doors first, so Connect's
+//! `application/json` is never refused here. The content type tests are
+//! [`super::protocol`]'s. A second message on a unary call is
 //! refused by the request gate, which reads the messages.
 
 use std::{
@@ -173,7 +176,10 @@ mod tests {
         }
         let mut http1 = request(Method::POST, Some("application/grpc"));
         *http1.version_mut() = Version::HTTP_11;
-        assert_eq!(refused(&layer, &http1), Some(StatusCode::BAD_REQUEST));
+        assert_eq!(
+            refused(&layer, &http1),
+            Some(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
+        );
         let mut web = request(Method::POST, Some("application/grpc-web+proto"));
         *web.version_mut() = Version::HTTP_11;
         assert_eq!(refused(&layer, &web), None);

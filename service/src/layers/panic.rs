@@ -19,7 +19,7 @@ use tonic::body::Body;
 use tower_http::catch_panic::{CatchPanicLayer, ResponseForPanic};
 
 use super::statuses;
-use crate::telemetry;
+use crate::instruments;
 
 /// Panics caught since the process started.
 static PANICS_CAUGHT: AtomicU64 = AtomicU64::new(0);
@@ -43,7 +43,7 @@ impl ResponseForPanic for InternalOnPanic {
 
     fn response_for_panic(&mut self, _payload: Box<dyn Any + Send + 'static>) -> Response<Body> {
         PANICS_CAUGHT.fetch_add(1, Ordering::Relaxed);
-        telemetry::record_panic();
+        instruments::record_panic();
         tracing::error!("a handler panicked; the call was answered INTERNAL");
         statuses::panicked().into_http()
     }

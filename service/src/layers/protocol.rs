@@ -2,29 +2,27 @@
 //! protocol it speaks and what kind of call it is, and whether a listener
 //! speaks HTTP/1.1 at all.
 //!
-//! - [`accepts_http1`]: HTTP/2 only, unless something that needs HTTP/1.1 is
-//!   on (grpc-web today; the Connect protocol of issue 17 will be the second
-//!   reason, and adds itself here).
+//! - [`MAIN_ACCEPTS_HTTP1`]: the main listener speaks HTTP/1.1 beside
+//!   HTTP/2, for the Connect protocol, the FHIR door and grpc-web; the
+//!   health listener speaks HTTP/2 only.
 //! - [`grpc_content_type`]: whether a content type is gRPC's or grpc-web's.
-//!   The strict-gRPC layer refuses anything else with HTTP 415. A dispatch in
-//!   front of the gRPC stack (Connect's `application/json` and
-//!   `application/proto`, FHIR under `/fhir/r4`) takes its requests before
-//!   they get there, so its content types never reach that refusal; the
-//!   dispatch's own content-type test belongs beside this one.
+//!   The dispatch in front of every door (`http::DispatchLayer`) sends
+//!   these, and only these (with requests for no door at all), to the
+//!   gRPC stack, whose strict layer ([`super::grpc_strict`]) refuses
+//!   anything else with HTTP 415. The Connect door's own content types
+//!   (`application/json`, `application/proto`) are its codec's
+//!   (`http::connect::Codec`); the FHIR door is chosen by path.
 //! - [`call_kind`]: health, streaming, unary or unknown, by path; the layers
 //!   that count calls and slots treat each kind differently.
 
 use http::{header::CONTENT_TYPE, HeaderMap};
 
-use crate::config::Config;
-
-/// Whether the main listener speaks HTTP/1.1 beside HTTP/2.
-///
-/// gRPC itself needs HTTP/2; only grpc-web (browsers) is carried over
-/// HTTP/1.1 today. Add each further reason here, in this one place.
-pub fn accepts_http1(config: &Config) -> bool {
-    config.grpc_web
-}
+/// Whether the main listener speaks HTTP/1.1 beside HTTP/2 (in the
+/// connection loop and in TLS's ALPN offer): always. gRPC itself needs
+/// HTTP/2, but the Connect protocol (issue 17), the FHIR door (issue 12)
+/// and grpc-web are carried over HTTP/1.1 too, and a plain gRPC request
+/// over HTTP/1.1 is refused by the strict layer (HTTP 505).
+pub const MAIN_ACCEPTS_HTTP1: bool = true;
 
 /// The gRPC content types a request may carry.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]

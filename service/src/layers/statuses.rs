@@ -172,12 +172,17 @@ pub fn method_not_allowed() -> Response<Body> {
     response
 }
 
-/// 400: plain gRPC over HTTP/1.1 (only grpc-web may use it).
+/// 505: plain gRPC over HTTP/1.1. The gRPC over HTTP/2 protocol defines
+/// gRPC over HTTP/2 only and names no status for another version; HTTP's
+/// own for a major version the server refuses to serve a request in is 505
+/// HTTP Version Not Supported (RFC 9110 section 15.6.6). The listener
+/// speaks HTTP/1.1 for the Connect protocol, the FHIR door and grpc-web.
 pub fn http2_required() -> Response<Body> {
     http_refusal(
-        StatusCode::BAD_REQUEST,
+        StatusCode::HTTP_VERSION_NOT_SUPPORTED,
         Code::Internal,
-        "gRPC needs HTTP/2; over HTTP/1.1 use grpc-web",
+        "gRPC needs HTTP/2; over HTTP/1.1 use the Connect protocol (application/json or \
+         application/proto) or grpc-web",
     )
 }
 
@@ -210,6 +215,9 @@ mod tests {
         let response = method_not_allowed();
         assert_eq!(response.status(), StatusCode::METHOD_NOT_ALLOWED);
         assert_eq!(response.headers()["allow"], "POST");
+        let response = http2_required();
+        assert_eq!(response.status(), StatusCode::HTTP_VERSION_NOT_SUPPORTED);
+        assert_eq!(response.headers()["grpc-status"], "13");
         let response = origin_not_allowed();
         assert_eq!(response.status(), StatusCode::FORBIDDEN);
         assert_eq!(response.headers()["grpc-status"], "7");

@@ -1,8 +1,15 @@
 //! TLS and mutual TLS for the main listener (rustls with the ring provider,
 //! as tonic's own server used): the server's certificate chain and key, and,
 //! with a client CA, a client certificate signed by it is required in the
-//! handshake. The handshake's deadline is the connection loop's
-//! ([`super::connections`]).
+//! handshake. The handshake is the connection loop's ([`super::connections`]),
+//! bounded by `--tls-handshake-timeout`, before any HTTP is spoken.
+//!
+//! ALPN offers `h2` and then `http/1.1` (RFC 7301) on the main listener
+//! ([`super::protocol::MAIN_ACCEPTS_HTTP1`]): tonic's own TLS offered only
+//! `h2`, so a client that speaks HTTP/1.1 and says so in its ALPN offer
+//! (Python's requests and urllib3, Node's fetch, .NET's HttpClient) was
+//! refused in the handshake, and the Connect protocol, the FHIR door and
+//! grpc-web over HTTP/1.1 could not be reached over TLS.
 
 use std::sync::Arc;
 

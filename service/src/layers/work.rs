@@ -13,6 +13,12 @@
 //! structs before the batch limit could refuse it. The walk reads only the
 //! top-level field keys and lengths (prost's own wire primitives), so it
 //! costs no allocation whatever the message holds.
+//!
+//! The Connect door's JSON messages are counted the same way before they
+//! are decoded ([`items_of_json`]): serde_json walks the top-level object,
+//! counting the entries of the repeated field (by its JSON name or its
+//! proto name, as the proto3 JSON mapping accepts both) and skipping every
+//! value without building it.
 
 use prost::{
     bytes::Buf,
@@ -40,24 +46,77 @@ const POINT_COUNT_FIELD: u32 = 6;
 /// The work of a request to the method at `path`, whose encoded message is
 /// `message` (without the gRPC prefix). At least one.
 pub fn items_of(path: &str, message: &[u8]) -> u64 {
-    let method = path.rsplit('/').next().unwrap_or("");
-    let service_is_dissociation = path.starts_with("/oxbind.v1.DissociationService/");
-    if !service_is_dissociation {
-        return 1;
+    match counted(path) {
+        Some(counted) => counted.items(&walk(message)),
+        None => 1,
     }
+}
+
+/// The work of a request to the method at `path` whose message is `json`
+/// (the proto3 JSON mapping, as the Connect door receives it). At least
+/// one; JSON that is not a message counts what came before the damage.
+pub fn items_of_json(path: &str, json: &[u8]) -> u64 {
+    let Some(counted) = counted(path) else {
+        return 1;
+    };
+    let mut found = TopLevel::default();
+    let mut reader = serde_json::Deserializer::from_slice(json);
+    let _ = serde::de::DeserializeSeed::deserialize(
+        json_walk::Object {
+            entries_names: counted.json_names(),
+            found: &mut found,
+        },
+        &mut reader,
+    );
+    counted.items(&found)
+}
+
+/// The methods whose work is more than one item.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Counted {
+    /// A batch: its `requests`.
+    Batch,
+    /// `EstimateP50`: its `pairs`.
+    Pairs,
+    /// `SampleCurve`: its `condition_sets` times its points.
+    Curve,
+}
+
+/// Which count applies to the method at `path`, if any.
+fn counted(path: &str) -> Option<Counted> {
+    let method = path.strip_prefix("/oxbind.v1.DissociationService/")?;
     match method {
-        "BatchSaturationFromTension" | "BatchTensionFromSaturation" | "EstimateP50" => {
-            walk(message).entries.max(1)
+        "BatchSaturationFromTension" | "BatchTensionFromSaturation" => Some(Counted::Batch),
+        "EstimateP50" => Some(Counted::Pairs),
+        "SampleCurve" => Some(Counted::Curve),
+        _ => None,
+    }
+}
+
+impl Counted {
+    /// The items of a message whose top level is `fields`.
+    fn items(self, fields: &TopLevel) -> u64 {
+        match self {
+            Counted::Batch | Counted::Pairs => fields.entries.max(1),
+            Counted::Curve => {
+                let points = match fields.point_count {
+                    None | Some(0) => CURVE_DEFAULT_POINTS,
+                    Some(n) => n.clamp(2, CURVE_MAX_POINTS),
+                };
+                (fields.entries.max(1) * points).div_ceil(CURVE_POINTS_PER_ITEM)
+            }
         }
-        "SampleCurve" => {
-            let fields = walk(message);
-            let points = match fields.point_count {
-                None | Some(0) => CURVE_DEFAULT_POINTS,
-                Some(n) => n.clamp(2, CURVE_MAX_POINTS),
-            };
-            (fields.entries.max(1) * points).div_ceil(CURVE_POINTS_PER_ITEM)
+    }
+
+    /// The JSON names of the repeated field counted (the proto3 JSON
+    /// mapping's lowerCamelCase name, and the proto name parsers also
+    /// accept).
+    fn json_names(self) -> &'static [&'static str] {
+        match self {
+            Counted::Batch => &["requests"],
+            Counted::Pairs => &["pairs"],
+            Counted::Curve => &["conditionSets", "condition_sets"],
         }
-        _ => 1,
     }
 }
 
@@ -95,6 +154,172 @@ fn walk(mut message: &[u8]) -> TopLevel {
         }
     }
     found
+}
+
+/// The walk of a JSON message's top-level object (serde's visitors over
+/// serde_json's reader): only the counted field's entries and
+/// `pointCount` are looked at, every other value is skipped unbuilt
+/// ([`IgnoredAny`](serde::de::IgnoredAny)). Counts go straight into
+/// [`TopLevel`], so a message that breaks off keeps what came before.
+mod json_walk {
+    use std::fmt;
+
+    use serde::de::{DeserializeSeed, Deserializer, IgnoredAny, MapAccess, SeqAccess, Visitor};
+
+    use super::TopLevel;
+
+    /// JSON names of `SampleCurveRequest.point_count`.
+    const POINT_COUNT_NAMES: [&str; 2] = ["pointCount", "point_count"];
+
+    /// The top-level object.
+    pub(super) struct Object<'a> {
+        pub(super) entries_names: &'static [&'static str],
+        pub(super) found: &'a mut TopLevel,
+    }
+
+    impl<'de> DeserializeSeed<'de> for Object<'_> {
+        type Value = ();
+
+        fn deserialize<D: Deserializer<'de>>(self, deserializer: D) -> Result<(), D::Error> {
+            deserializer.deserialize_map(self)
+        }
+    }
+
+    impl<'de> Visitor<'de> for Object<'_> {
+        type Value = ();
+
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            f.write_str("a JSON object")
+        }
+
+        fn visit_map<A: MapAccess<'de>>(self, mut map: A) -> Result<(), A::Error> {
+            let Object {
+                entries_names,
+                found,
+            } = self;
+            while let Some(key) = map.next_key_seed(KeySeed(entries_names))? {
+                match key {
+                    Key::Entries => map.next_value_seed(Entries(&mut found.entries))?,
+                    Key::PointCount => found.point_count = map.next_value_seed(PointCount)?,
+                    Key::Other => {
+                        map.next_value::<IgnoredAny>()?;
+                    }
+                }
+            }
+            Ok(())
+        }
+    }
+
+    /// What a key names.
+    enum Key {
+        Entries,
+        PointCount,
+        Other,
+    }
+
+    /// Reads a key without keeping it.
+    struct KeySeed(&'static [&'static str]);
+
+    impl<'de> DeserializeSeed<'de> for KeySeed {
+        type Value = Key;
+
+        fn deserialize<D: Deserializer<'de>>(self, deserializer: D) -> Result<Key, D::Error> {
+            deserializer.deserialize_identifier(self)
+        }
+    }
+
+    impl Visitor<'_> for KeySeed {
+        type Value = Key;
+
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            f.write_str("a field name")
+        }
+
+        fn visit_str<E>(self, key: &str) -> Result<Key, E> {
+            Ok(if self.0.contains(&key) {
+                Key::Entries
+            } else if POINT_COUNT_NAMES.contains(&key) {
+                Key::PointCount
+            } else {
+                Key::Other
+            })
+        }
+    }
+
+    /// Counts a list's entries into its `u64` as they are read (`null`
+    /// counts none).
+    struct Entries<'a>(&'a mut u64);
+
+    impl<'de> DeserializeSeed<'de> for Entries<'_> {
+        type Value = ();
+
+        fn deserialize<D: Deserializer<'de>>(self, deserializer: D) -> Result<(), D::Error> {
+            deserializer.deserialize_any(self)
+        }
+    }
+
+    impl<'de> Visitor<'de> for Entries<'_> {
+        type Value = ();
+
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            f.write_str("a list")
+        }
+
+        fn visit_seq<A: SeqAccess<'de>>(self, mut seq: A) -> Result<(), A::Error> {
+            let Entries(count) = self;
+            while seq.next_element::<IgnoredAny>()?.is_some() {
+                *count += 1;
+            }
+            Ok(())
+        }
+
+        fn visit_unit<E>(self) -> Result<(), E> {
+            Ok(())
+        }
+    }
+
+    /// `pointCount`: an int32, as a JSON number or a string (proto3 JSON
+    /// mapping); a negative one counts as none, anything else is not read.
+    struct PointCount;
+
+    impl<'de> DeserializeSeed<'de> for PointCount {
+        type Value = Option<u64>;
+
+        fn deserialize<D: Deserializer<'de>>(
+            self,
+            deserializer: D,
+        ) -> Result<Option<u64>, D::Error> {
+            deserializer.deserialize_any(self)
+        }
+    }
+
+    impl Visitor<'_> for PointCount {
+        type Value = Option<u64>;
+
+        fn expecting(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+            f.write_str("an integer")
+        }
+
+        fn visit_u64<E>(self, value: u64) -> Result<Option<u64>, E> {
+            Ok(Some(value))
+        }
+
+        fn visit_i64<E>(self, value: i64) -> Result<Option<u64>, E> {
+            Ok(Some(value.max(0) as u64))
+        }
+
+        fn visit_f64<E>(self, value: f64) -> Result<Option<u64>, E> {
+            Ok((value.is_finite() && value.fract() == 0.0).then(|| value.max(0.0) as u64))
+        }
+
+        fn visit_str<E>(self, value: &str) -> Result<Option<u64>, E> {
+            Ok(value.trim().parse::<i64>().ok().map(|v| v.max(0) as u64))
+        }
+
+        fn visit_unit<E>(self) -> Result<Option<u64>, E> {
+            Ok(None)
+        }
+    }
 }
 
 #[cfg(test)]
@@ -161,6 +386,47 @@ mod tests {
             items_of("/oxbind.v1.ModelCatalogService/ListModels", &[]),
             1
         );
+    }
+
+    #[test]
+    fn json_messages_are_counted_as_their_binary_form_is() {
+        let batch = format!(
+            r#"{{"requests":[{}{{}}],"provenancePlacement":"PROVENANCE_PLACEMENT_SHARED"}}"#,
+            "{},".repeat(1233)
+        );
+        assert_eq!(items_of_json(BATCH, batch.as_bytes()), 1234);
+        assert_eq!(items_of_json(BATCH, b"{}"), 1, "an empty batch is one call");
+        assert_eq!(items_of_json(BATCH, br#"{"requests":null}"#), 1);
+        let pairs = br#"{"pairs":[{"po2":{"value":30}},{},{}]}"#;
+        assert_eq!(
+            items_of_json("/oxbind.v1.DissociationService/EstimateP50", pairs),
+            3
+        );
+        for curve in [
+            r#"{"conditionSets":[{},{},{},{},{},{},{},{},{},{}],"pointCount":10000}"#,
+            r#"{"condition_sets":[{},{},{},{},{},{},{},{},{},{}],"point_count":"10000"}"#,
+        ] {
+            assert_eq!(items_of_json(CURVE, curve.as_bytes()), 1_000, "{curve}");
+        }
+        assert_eq!(items_of_json(CURVE, br#"{"pointCount":-5}"#), 1);
+        assert_eq!(
+            items_of_json(
+                "/oxbind.v1.DissociationService/SaturationFromTension",
+                br#"{"requests":[{},{}]}"#
+            ),
+            1,
+            "only the methods that count items"
+        );
+    }
+
+    #[test]
+    fn broken_json_counts_what_came_before_the_damage() {
+        let mut batch = String::from(r#"{"requests":["#);
+        batch.push_str(&"{},".repeat(500));
+        batch.push_str("nonsense");
+        assert_eq!(items_of_json(BATCH, batch.as_bytes()), 500);
+        assert_eq!(items_of_json(BATCH, b"not json"), 1);
+        assert_eq!(items_of_json(BATCH, b"[1,2,3]"), 1);
     }
 
     #[test]

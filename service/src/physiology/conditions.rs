@@ -3,7 +3,7 @@
 //! Every condition is optional; an absent condition means the standard value
 //! below. Engine units: pH units, mmHg, degrees Celsius, mmol/L and fractions
 //! 0-1. Which of them a model honours is listed in its
-//! [`ModelInfo`](super::model::ModelInfo); see each model's module for which
+//! [`ModelInfo`](super::curves::curve::ModelInfo); see each model's module for which
 //! temperature the pH and PCO2 refer to.
 
 use super::error::{require_finite, require_within, Input, PhysiologyError};

@@ -136,7 +136,7 @@ pub enum PhysiologyError {
     },
     /// The model's equation is undefined or meaningless at this input, although
     /// the input itself is physically possible (for example Kelman's rational
-    /// function below its zero crossing).
+    /// function above a virtual PO2 of 8949.9 mmHg, where it exceeds 1).
     OutsideModelDomain {
         /// The offending input.
         input: Input,

@@ -22,11 +22,12 @@
 use super::conditions::{
     Conditions, STANDARD_PCO2_MMHG, STANDARD_PH, STANDARD_TEMPERATURE_CELSIUS,
 };
-use super::error::{require_finite, Input, PhysiologyError};
-use super::kelman;
-use super::model::{
-    check_inverse_saturation, check_positive_po2, logit_of, DissociationModel, Model,
+use super::curves::curve::{
+    check_inverse_saturation, check_positive_po2, logit_of, DissociationModel,
 };
+use super::curves::dispatch::Model;
+use super::curves::kelman;
+use super::error::{require_finite, Input, PhysiologyError};
 
 /// Largest saturation accepted for P50 estimation (see the module docs).
 pub const INFORMATIVE_SATURATION_MAX: f64 = 0.97;

@@ -16,8 +16,9 @@ use super::conditions::{
     Condition, Conditions, STANDARD_BASE_EXCESS_MMOL_PER_L, STANDARD_DPG_MMOL_PER_L,
     STANDARD_PCO2_MMHG, STANDARD_PH, STANDARD_TEMPERATURE_CELSIUS,
 };
+use super::curves::curve::DissociationModel;
+use super::curves::dispatch::Model;
 use super::error::PhysiologyError;
-use super::model::{DissociationModel, Model};
 
 /// Every condition given at its standard value: asks a model which it honours.
 const EVERY_CONDITION_GIVEN: Conditions = Conditions {

@@ -11,8 +11,8 @@
 //! correcting from A to B and then from B to A returns the starting value (to
 //! rounding for pH and PCO2, to the solver's tolerance for PO2).
 
+use super::curves::severinghaus::{self, po2_temperature_coefficient_ln_per_celsius};
 use super::error::{require_positive, require_within, Input, PhysiologyError};
-use super::severinghaus::{self, po2_temperature_coefficient_ln_per_celsius};
 
 /// The reference temperature of the published coefficients and of blood-gas
 /// analysers, °C (common practice).

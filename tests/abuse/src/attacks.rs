@@ -61,13 +61,13 @@ impl Tally {
 }
 
 /// Milliseconds, for the figures.
-fn ms(duration: Duration) -> f64 {
+pub(crate) fn ms(duration: Duration) -> f64 {
     (duration.as_secs_f64() * 1e4).round() / 10.0
 }
 
 /// `calls` SaturationFromTension calls at once on a fresh connection, each
 /// with `deadline`; their statuses.
-async fn honest_calls(address: SocketAddr, calls: usize, deadline: Duration) -> Tally {
+pub(crate) async fn honest_calls(address: SocketAddr, calls: usize, deadline: Duration) -> Tally {
     let mut tally = Tally::default();
     let send = match tokio::time::timeout(deadline, wire::h2_connect(address)).await {
         Ok(Ok(send)) => send,
@@ -713,7 +713,7 @@ pub struct LoadFigures {
 /// server's stream limit and queues calls past it instead of opening
 /// streams the server must refuse (REFUSED_STREAM, which gRPC clients retry
 /// on their own).
-async fn warm_connections(
+pub(crate) async fn warm_connections(
     address: SocketAddr,
     connections: usize,
 ) -> Vec<h2::client::SendRequest<Bytes>> {
@@ -781,7 +781,7 @@ async fn flood(
 
 /// Pause of a batch task after a refusal before it sends again (a client
 /// backing off a little).
-const BATCH_RETRY_PAUSE: Duration = Duration::from_millis(20);
+pub(crate) const BATCH_RETRY_PAUSE: Duration = Duration::from_millis(20);
 
 /// Findings 4 and 5: `concurrent` callers each sending batches of `items`
 /// blood gases (provenance on each item, the heaviest answer) one after

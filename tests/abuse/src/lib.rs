@@ -8,6 +8,8 @@
 //!   well-behaved client sends.
 //! - [`probe`]: a health prober timing every check.
 //! - [`attacks`]: the attacks, each returning its figures.
+//! - [`doors`]: the same attacks through the doors beside gRPC (the Connect
+//!   protocol over HTTP/1.1 and HTTP/2, the FHIR door).
 //! - [`bound`]: the documented bound on the server's resident memory.
 //!
 //! The tests in `tests/abuse.rs` run every attack with small, fast settings
@@ -17,6 +19,7 @@
 
 pub mod attacks;
 pub mod bound;
+pub mod doors;
 pub mod inputs;
 pub mod probe;
 pub mod server;

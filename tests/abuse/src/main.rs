@@ -15,6 +15,7 @@ use std::{path::PathBuf, time::Duration};
 use clap::{Parser, Subcommand};
 use oxbind_abuse::{
     attacks::{self, HonestClient},
+    doors::{self, Http1Hold},
     server::{free_port, raise_open_file_limit, server_binary, ServerOptions, ServerProcess},
     tls::MutualTls,
 };
@@ -153,6 +154,55 @@ enum Attack {
     },
     /// Ten times the call limit at once.
     Overload {
+        #[arg(long, default_value_t = 640)]
+        calls: usize,
+        #[arg(long, default_value_t = 8)]
+        connections: usize,
+    },
+    /// HTTP/1.1 keep-alive connections that each made one Connect call and
+    /// sit idle, then an honest Connect client.
+    ConnectIdleSockets {
+        #[arg(long, default_value_t = 1_100)]
+        sockets: usize,
+        #[arg(long, default_value_t = 120.0)]
+        honest_limit_s: f64,
+        #[arg(long, default_value_t = 150.0)]
+        observe_s: f64,
+    },
+    /// HTTP/1.1 connections that send half a request head and stall, then
+    /// an honest Connect client.
+    Http1UnfinishedHeads {
+        #[arg(long, default_value_t = 1_100)]
+        sockets: usize,
+        #[arg(long, default_value_t = 30.0)]
+        honest_limit_s: f64,
+        #[arg(long, default_value_t = 30.0)]
+        observe_s: f64,
+    },
+    /// Connect POSTs that declare a body and never send it, then honest
+    /// gRPC calls.
+    ConnectUnsentBodies {
+        #[arg(long, default_value_t = 200)]
+        requests: usize,
+        #[arg(long, default_value_t = 20)]
+        calls: usize,
+        #[arg(long, default_value_t = 15.0)]
+        observe_s: f64,
+    },
+    /// Many callers sending full Connect JSON batches, one after another,
+    /// for a while.
+    ConnectBatchFlood {
+        #[arg(long, default_value_t = 64)]
+        concurrent: usize,
+        #[arg(long, default_value_t = 10_000)]
+        items: usize,
+        #[arg(long, default_value_t = 8)]
+        connections: usize,
+        #[arg(long, default_value_t = 20.0)]
+        duration_s: f64,
+    },
+    /// Ten times the call limit at once through the Connect and FHIR doors.
+    DoorsOverload {
         #[arg(long, default_value_t = 640)]
         calls: usize,
         #[arg(long, default_value_t = 8)]
@@ -367,6 +417,63 @@ async fn main() {
         Attack::Overload { calls, connections } => {
             let server = ServerProcess::start(&binary, &options);
             json!(attacks::overload(&server, calls, connections).await)
+        }
+        Attack::ConnectIdleSockets {
+            sockets,
+            honest_limit_s,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(
+                doors::http1_sockets(
+                    &server,
+                    Http1Hold::IdleAfterACall,
+                    sockets,
+                    secs(honest_limit_s),
+                    secs(observe_s),
+                )
+                .await
+            )
+        }
+        Attack::Http1UnfinishedHeads {
+            sockets,
+            honest_limit_s,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(
+                doors::http1_sockets(
+                    &server,
+                    Http1Hold::UnfinishedHead,
+                    sockets,
+                    secs(honest_limit_s),
+                    secs(observe_s),
+                )
+                .await
+            )
+        }
+        Attack::ConnectUnsentBodies {
+            requests,
+            calls,
+            observe_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(doors::unsent_bodies(&server, requests, 64, calls, secs(observe_s)).await)
+        }
+        Attack::ConnectBatchFlood {
+            concurrent,
+            items,
+            connections,
+            duration_s,
+        } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(
+                doors::batch_flood(&server, concurrent, items, connections, secs(duration_s)).await
+            )
+        }
+        Attack::DoorsOverload { calls, connections } => {
+            let server = ServerProcess::start(&binary, &options);
+            json!(doors::overload(&server, calls, connections).await)
         }
         Attack::ShutdownWatch { limit_s } => {
             let mut server = ServerProcess::start(&binary, &options);

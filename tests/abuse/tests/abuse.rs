@@ -14,6 +14,7 @@ use std::time::Duration;
 use oxbind_abuse::{
     attacks::{self, HonestClient, StreamHold},
     bound::{memory_bound_mib, Limits},
+    doors::{self, Http1Hold},
     server::{free_port, raise_open_file_limit, server_binary, ServerOptions, ServerProcess},
     tls::MutualTls,
 };
@@ -151,6 +152,99 @@ async fn idle_connections_answering_pings_are_closed() {
     let server = start(&["--idle-timeout", "1s", "--keepalive-interval", "200ms"]);
     let figures = attacks::idle_connections(&server, 16, secs(6.0)).await;
     assert_eq!(figures.closed_by_server, 16, "{figures:?}");
+}
+
+/// Finding 2 through the Connect door over HTTP/1.1: keep-alive
+/// connections beyond the connection cap that made one Connect call and sit
+/// idle are closed at the idle timeout, and a new Connect client is served.
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn idle_connect_keepalive_connections_beyond_the_cap_are_closed_and_a_new_client_is_served() {
+    let server = start(&["--max-connections", "32", "--idle-timeout", "1s"]);
+    let figures = doors::http1_sockets(
+        &server,
+        Http1Hold::IdleAfterACall,
+        64,
+        secs(10.0),
+        secs(8.0),
+    )
+    .await;
+    assert!(figures.honest_served, "{figures:?}");
+    assert_eq!(figures.closed_by_server, 64, "{figures:?}");
+    assert_eq!(figures.health.failed, 0, "{figures:?}");
+}
+
+/// Finding 2 over HTTP/1.1 (which the listener speaks for Connect, FHIR
+/// and grpc-web): connections beyond the cap that send half a request head
+/// and stall are closed at the preface deadline, and a new client is
+/// served.
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn unfinished_http1_request_heads_beyond_the_cap_are_closed_at_the_preface_deadline() {
+    let server = start(&["--max-connections", "32", "--preface-timeout", "500ms"]);
+    let figures = doors::http1_sockets(
+        &server,
+        Http1Hold::UnfinishedHead,
+        64,
+        secs(10.0),
+        secs(8.0),
+    )
+    .await;
+    assert!(figures.honest_served, "{figures:?}");
+    assert_eq!(figures.closed_by_server, 64, "{figures:?}");
+}
+
+/// Finding 1 through the Connect door: requests that declare a body and
+/// never send it hold no call slot (more of them than there are slots, and
+/// honest calls are all served) and are answered at the request arrival
+/// timeout, not the call timeout.
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn connect_bodies_never_sent_take_no_call_slot_and_end_early() {
+    let server = start(&["--request-arrival-timeout", "1s", "--call-timeout", "30s"]);
+    let figures = doors::unsent_bodies(&server, 100, 64, 20, secs(8.0)).await;
+    assert_eq!(figures.honest_calls.get("OK"), 20, "{figures:?}");
+    assert_eq!(
+        figures.answered.get("DEADLINE_EXCEEDED"),
+        100,
+        "{figures:?}"
+    );
+    let last = figures.last_answer_ms.expect("answered");
+    assert!(
+        last < 6_000.0,
+        "ended by the 1 s arrival timeout, not the 30 s call timeout: {figures:?}"
+    );
+}
+
+/// Overload through the Connect and FHIR doors (singles, 500-item batches,
+/// FHIR panels, 640 at once over 8 connections): their calls are admitted
+/// by the same call slots, fair shares and work limit as gRPC's. With 8
+/// call slots (one per connection) and room for two batches, many are
+/// refused at once; every answer is OK or RESOURCE_EXHAUSTED, and health
+/// answers throughout.
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn overload_through_connect_and_fhir_is_admitted_by_the_same_limits() {
+    let server = start(&[
+        "--max-concurrent-calls",
+        "8",
+        "--max-batch-items",
+        "500",
+        "--max-items-in-flight",
+        "1000",
+    ]);
+    let figures = doors::overload(&server, 640, 8).await;
+    assert_eq!(figures.answers.total(), 640, "{figures:?}");
+    assert!(
+        figures
+            .answers
+            .others(&["OK", "RESOURCE_EXHAUSTED"])
+            .is_empty(),
+        "{figures:?}"
+    );
+    assert!(figures.answers.get("OK") > 0, "{figures:?}");
+    assert!(
+        figures.answers.get("RESOURCE_EXHAUSTED") > 0,
+        "more than the limits admit: {figures:?}"
+    );
+    assert_eq!(figures.health.failed, 0, "{figures:?}");
+    assert!(figures.health.serving > 0, "{figures:?}");
 }
 
 /// Finding 3: the health listener has a connection cap, so sockets held

@@ -1,4 +1,6 @@
-//! One function per RPC subcommand: build the request, call, print.
+//! One function per RPC subcommand: build the request from exactly the
+//! flags given (nothing empty is sent), call, print; and for each, how its
+//! flags name the request's fields.
 
 use std::path::PathBuf;
 
@@ -7,17 +9,18 @@ use oxbind_client::{
     health::health_check_response::ServingStatus,
     service_names,
     v1::{
-        BloodConditions, BloodSample, CorrectForTemperatureRequest, CurveSpacing,
-        EstimateP50Request, FactorContribution, GasExchangeRequest, ListModelsRequest,
-        MeasuredPair, OxygenContentRequest, Quantity, SampleCurveRequest, SampleCurveResponse,
-        SaturationFromTensionRequest, ShiftDirection, ShiftFactor, ShiftFactorsRequest,
+        AlveolarEquation, BloodConditions, CorrectForTemperatureRequest, CurveSpacing,
+        EstimateP50Request, GasExchangeRequest, ListModelsRequest, MeasuredPair,
+        OxygenContentRequest, Quantity, SampleCurveRequest, SampleCurveResponse,
+        SaturationFromTensionRequest, ShiftDirection, ShiftFactorsRequest,
         TensionFromSaturationRequest,
     },
 };
 
 use crate::{
-    args::{self, ConditionArgs, HillArgs},
+    args::{self, ArterialArgs, ConditionArgs, HillArgs, VenousArgs},
     failure::Failure,
+    fields::FieldNames,
     output::{self, print_json, Table},
     plot::{self, Series},
     Context,
@@ -30,27 +33,42 @@ fn json_or<M: prost::Message>(
     table: impl FnOnce(&M) -> Table,
 ) -> Result<(), Failure> {
     if ctx.json {
-        print_json(message, name).map_err(Failure::Other)
+        print_json(message, name)
     } else {
-        table(message).print();
-        Ok(())
+        table(message).print()
     }
 }
 
-/// `oxbind saturation`.
-pub(crate) async fn saturation(
-    ctx: &Context,
+/// Flags of `oxbind saturation`.
+#[derive(Debug, Clone, Args)]
+pub(crate) struct SaturationArgs {
+    /// PO2; a bare number is mm[Hg].
+    #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
     po2: Quantity,
-    conditions: &ConditionArgs,
-    hill: &HillArgs,
-) -> Result<(), Failure> {
+    #[command(flatten)]
+    conditions: ConditionArgs,
+    #[command(flatten)]
+    pub(crate) hill: HillArgs,
+}
+
+/// How `saturation`, `tension` and `shift` name their fields.
+pub(crate) fn curve_point_names() -> FieldNames {
+    FieldNames::new()
+        .with("po2", "--po2")
+        .with("saturation_fraction", "--saturation")
+        .with_conditions("conditions", "")
+        .with_hill("hill")
+}
+
+/// `oxbind saturation`.
+pub(crate) async fn saturation(ctx: &Context, a: &SaturationArgs) -> Result<(), Failure> {
     let response = ctx
         .client
         .saturation_from_tension(SaturationFromTensionRequest {
-            po2: Some(po2),
-            conditions: Some(conditions.to_conditions()),
+            po2: Some(a.po2.clone()),
+            conditions: a.conditions.to_conditions(),
             model: ctx.model,
-            hill: hill.to_hill(),
+            hill: a.hill.to_hill(),
             unit_system: ctx.unit_system,
         })
         .await?;
@@ -60,32 +78,40 @@ pub(crate) async fn saturation(
         "oxbind.v1.SaturationFromTensionResponse",
         |r| {
             let mut t = Table::new();
-            t.row(
-                "oxygen saturation",
-                output::saturation(r.saturation_fraction),
-            )
-            .quantity("P50 at conditions", r.p50_at_conditions.as_ref())
-            .number("Hill slope at this point", Some(r.hill_slope), 3)
-            .provenance(r.provenance.as_ref(), &r.warnings);
+            t.hill_preset(a.hill.hill_preset.map(|p| p.name()))
+                .row(
+                    "oxygen saturation (functional)",
+                    output::saturation(r.saturation_fraction),
+                )
+                .quantity("P50 at these conditions", r.p50_at_conditions.as_ref())
+                .number("Hill slope at this point", Some(r.hill_slope), 3)
+                .provenance(r.provenance.as_ref(), &r.warnings, &curve_point_names());
             t
         },
     )
 }
 
-/// `oxbind tension`.
-pub(crate) async fn tension(
-    ctx: &Context,
+/// Flags of `oxbind tension`.
+#[derive(Debug, Clone, Args)]
+pub(crate) struct TensionArgs {
+    /// Functional saturation: a fraction (`0.93`) or per cent (`93%`).
+    #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
     saturation: f64,
-    conditions: &ConditionArgs,
-    hill: &HillArgs,
-) -> Result<(), Failure> {
+    #[command(flatten)]
+    conditions: ConditionArgs,
+    #[command(flatten)]
+    pub(crate) hill: HillArgs,
+}
+
+/// `oxbind tension`.
+pub(crate) async fn tension(ctx: &Context, a: &TensionArgs) -> Result<(), Failure> {
     let response = ctx
         .client
         .tension_from_saturation(TensionFromSaturationRequest {
-            saturation_fraction: saturation,
-            conditions: Some(conditions.to_conditions()),
+            saturation_fraction: a.saturation,
+            conditions: a.conditions.to_conditions(),
             model: ctx.model,
-            hill: hill.to_hill(),
+            hill: a.hill.to_hill(),
             unit_system: ctx.unit_system,
         })
         .await?;
@@ -95,13 +121,14 @@ pub(crate) async fn tension(
         "oxbind.v1.TensionFromSaturationResponse",
         |r| {
             let mut t = Table::new();
-            t.quantity("oxygen tension", r.po2.as_ref())
+            t.hill_preset(a.hill.hill_preset.map(|p| p.name()))
+                .quantity("oxygen tension", r.po2.as_ref())
                 .quantity(
                     "PO2 change per saturation point",
                     r.po2_change_per_percent.as_ref(),
                 )
-                .quantity("P50 at conditions", r.p50_at_conditions.as_ref())
-                .provenance(r.provenance.as_ref(), &r.warnings);
+                .quantity("P50 at these conditions", r.p50_at_conditions.as_ref())
+                .provenance(r.provenance.as_ref(), &r.warnings, &curve_point_names());
             t
         },
     )
@@ -119,10 +146,6 @@ pub(crate) enum SpacingArg {
 /// Flags of `oxbind curve`.
 #[derive(Debug, Clone, Args)]
 pub(crate) struct CurveArgs {
-    #[command(flatten)]
-    pub(crate) conditions: ConditionArgs,
-    #[command(flatten)]
-    pub(crate) hill: HillArgs,
     /// Lowest PO2; a bare number is mm[Hg] (server default when absent).
     #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
     pub(crate) po2_min: Option<Quantity>,
@@ -132,7 +155,7 @@ pub(crate) struct CurveArgs {
     /// Points per curve (server default when absent).
     #[arg(long)]
     pub(crate) points: Option<i32>,
-    /// Spacing of the points.
+    /// Spacing of the points (server default linear).
     #[arg(long, value_enum)]
     pub(crate) spacing: Option<SpacingArg>,
     /// Leave out the standard curve when conditions are given.
@@ -141,6 +164,24 @@ pub(crate) struct CurveArgs {
     /// Write an SVG plot of the curves to this file.
     #[arg(long, value_name = "FILE")]
     pub(crate) svg: Option<PathBuf>,
+    #[command(flatten)]
+    pub(crate) conditions: ConditionArgs,
+    #[command(flatten)]
+    pub(crate) hill: HillArgs,
+}
+
+/// How `curve` names its fields. The curve of the given conditions is the
+/// last condition set (the first is the standard one, unless
+/// `--no-standard`).
+pub(crate) fn curve_names(given_index: usize) -> FieldNames {
+    FieldNames::new()
+        .with_conditions(&format!("condition_sets[{given_index}]"), "")
+        .with("condition_sets", "the condition flags")
+        .with_hill("hill")
+        .with("po2_min", "--po2-min")
+        .with("po2_max", "--po2-max")
+        .with("point_count", "--points")
+        .with("spacing", "--spacing")
 }
 
 /// Ask for curves under each of `condition_sets`.
@@ -169,19 +210,26 @@ pub(crate) async fn sample_curves(
         .await?)
 }
 
-/// `oxbind curve`.
-pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure> {
+/// The curves `oxbind curve` asks for, with their labels.
+pub(crate) fn curve_sets(args: &CurveArgs) -> (Vec<BloodConditions>, Vec<String>) {
     let patient = args.conditions.to_conditions();
     let mut sets = Vec::new();
     let mut labels = Vec::new();
-    if patient.is_standard() || !args.no_standard {
+    if patient.is_none() || !args.no_standard {
         sets.push(BloodConditions::standard());
         labels.push("standard conditions".to_owned());
     }
-    if !patient.is_standard() {
-        labels.push(format!("given conditions ({})", describe(&patient)));
+    if let Some(patient) = patient {
+        labels.push(describe(&patient));
         sets.push(patient);
     }
+    (sets, labels)
+}
+
+/// `oxbind curve`.
+pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure> {
+    let (sets, labels) = curve_sets(args);
+    let given_index = sets.len() - 1;
     let response = sample_curves(ctx, sets, args).await?;
     if let Some(path) = &args.svg {
         let series: Vec<Series> = response
@@ -191,33 +239,38 @@ pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure
             .map(|(c, l)| Series::from_curve(l, c))
             .collect();
         plot::write_svg(path, "Oxygen dissociation curves", &series).map_err(Failure::Other)?;
-        eprintln!(
+        output::note(format!(
             "oxbind: wrote {} curve(s) to {}",
             series.len(),
             path.display()
-        );
+        ));
     }
     if ctx.json {
-        return print_json(&response, "oxbind.v1.SampleCurveResponse").map_err(Failure::Other);
+        return print_json(&response, "oxbind.v1.SampleCurveResponse");
     }
+    let names = curve_names(given_index);
     for (curve, label) in response.curves.iter().zip(&labels) {
         let mut t = Table::new();
-        t.row("curve", label.clone())
+        t.hill_preset(args.hill.hill_preset.map(|p| p.name()))
+            .row("curve", label.clone())
             .quantity("P50", curve.p50.as_ref())
-            .provenance(curve.provenance.as_ref(), &curve.warnings);
-        t.print();
+            .provenance(curve.provenance.as_ref(), &curve.warnings, &names);
+        t.print()?;
+        output::line("")?;
     }
-    // One PO2 column, one saturation column per curve.
+    // One PO2 column, one saturation column per curve, headed by its label.
     let unit = response
         .curves
         .first()
         .map(|c| c.po2_unit.clone())
         .unwrap_or_default();
-    print!("\n{:>10}", format!("PO2 {unit}"));
-    for i in 0..response.curves.len() {
-        print!("  {:>12}", format!("SO2 curve {}", i + 1));
+    let po2_heading = format!("PO2 ({unit})");
+    let headings: Vec<String> = labels.iter().map(|l| format!("SO2 {l}")).collect();
+    let mut header = format!("{po2_heading:>12}");
+    for h in &headings {
+        header.push_str(&format!("  {h:>12}"));
     }
-    println!();
+    output::line(header)?;
     let n = response
         .curves
         .iter()
@@ -230,19 +283,21 @@ pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure
             .iter()
             .find_map(|c| c.points.get(row))
             .map(|p| p.po2);
-        print!("{:>10.2}", po2.unwrap_or(f64::NAN));
-        for c in &response.curves {
+        let mut text = format!("{:>12.2}", po2.unwrap_or(f64::NAN));
+        for (c, h) in response.curves.iter().zip(&headings) {
+            let width = h.chars().count().max(12);
             match c.points.get(row) {
-                Some(p) => print!("  {:>12.4}", p.saturation_fraction),
-                None => print!("  {:>12}", ""),
+                Some(p) => text.push_str(&format!("  {:>width$.4}", p.saturation_fraction)),
+                None => text.push_str(&format!("  {:>width$}", "")),
             }
         }
-        println!();
+        output::line(text)?;
     }
     Ok(())
 }
 
-/// A short description of conditions, e.g. `pH 7.31, PCO2 48 mm[Hg]`.
+/// Conditions in plain words, e.g. `pH 7.35, temperature 33.2 °C, base
+/// excess -2 mmol/L`.
 pub(crate) fn describe(c: &BloodConditions) -> String {
     let mut parts = Vec::new();
     if let Some(ph) = c.ph {
@@ -250,20 +305,20 @@ pub(crate) fn describe(c: &BloodConditions) -> String {
     }
     let named = [
         ("PCO2", &c.pco2),
-        ("T", &c.temperature),
-        ("DPG", &c.dpg),
-        ("BE", &c.base_excess),
+        ("temperature", &c.temperature),
+        ("2,3-DPG", &c.dpg),
+        ("base excess", &c.base_excess),
         ("COHb", &c.cohb),
         ("MetHb", &c.methb),
         ("HbF", &c.hbf),
     ];
     for (name, q) in named {
         if let Some(q) = q {
-            parts.push(format!("{name} {q}"));
+            parts.push(format!("{name} {}", output::given(q)));
         }
     }
     if parts.is_empty() {
-        "standard".to_owned()
+        "standard conditions".to_owned()
     } else {
         parts.join(", ")
     }
@@ -278,22 +333,19 @@ fn direction(raw: i32) -> &'static str {
     }
 }
 
-fn factor_name(c: &FactorContribution) -> String {
-    ShiftFactor::try_from(c.factor)
-        .map(|f| {
-            f.as_str_name()
-                .trim_start_matches("SHIFT_FACTOR_")
-                .to_lowercase()
-        })
-        .unwrap_or_else(|_| c.factor.to_string())
+/// Flags of `oxbind shift`.
+#[derive(Debug, Clone, Args)]
+pub(crate) struct ShiftArgs {
+    #[command(flatten)]
+    conditions: ConditionArgs,
 }
 
 /// `oxbind shift`.
-pub(crate) async fn shift(ctx: &Context, conditions: &ConditionArgs) -> Result<(), Failure> {
+pub(crate) async fn shift(ctx: &Context, a: &ShiftArgs) -> Result<(), Failure> {
     let response = ctx
         .client
         .shift_factors(ShiftFactorsRequest {
-            conditions: Some(conditions.to_conditions()),
+            conditions: a.conditions.to_conditions(),
             model: ctx.model,
             unit_system: ctx.unit_system,
         })
@@ -301,12 +353,12 @@ pub(crate) async fn shift(ctx: &Context, conditions: &ConditionArgs) -> Result<(
     json_or(ctx, &response, "oxbind.v1.ShiftFactorsResponse", |r| {
         let mut t = Table::new();
         t.quantity("P50 at standard conditions", r.p50_standard.as_ref())
-            .quantity("P50 at conditions", r.p50_at_conditions.as_ref())
+            .quantity("P50 at these conditions", r.p50_at_conditions.as_ref())
             .number("log10 P50 shift", Some(r.log10_p50_shift), 4)
             .row("shift", direction(r.direction));
         for c in &r.contributions {
             t.row(
-                format!("  from {}", factor_name(c)),
+                format!("  from {}", output::factor_name(c.factor)),
                 format!(
                     "{:+.4} log10, {}",
                     c.log10_p50_shift,
@@ -319,54 +371,107 @@ pub(crate) async fn shift(ctx: &Context, conditions: &ConditionArgs) -> Result<(
             Some(r.po2_correction_factor),
             4,
         )
-        .provenance(r.provenance.as_ref(), &r.warnings);
+        .provenance(r.provenance.as_ref(), &r.warnings, &curve_point_names());
         t
     })
 }
 
-/// `oxbind p50`.
-pub(crate) async fn p50(
-    ctx: &Context,
+/// Flags of `oxbind p50`.
+#[derive(Debug, Clone, Args)]
+pub(crate) struct P50Args {
+    /// A measured pair PO2:SO2, e.g. `30mm[Hg]:0.57` or `4kPa:57%`; repeat
+    /// for more (each gets the condition flags).
+    #[arg(long = "pair", value_parser = args::pair, required = true, value_name = "PO2:SO2")]
     pairs: Vec<(Quantity, f64)>,
-    conditions: &ConditionArgs,
-) -> Result<(), Failure> {
-    let conditions = conditions.to_conditions();
+    #[command(flatten)]
+    conditions: ConditionArgs,
+}
+
+impl P50Args {
+    /// How many pairs were given.
+    pub(crate) fn pairs_len(&self) -> usize {
+        self.pairs.len()
+    }
+}
+
+/// How `p50` names its fields (pairs counted from 1, as typed).
+pub(crate) fn p50_names(pairs: usize) -> FieldNames {
+    let mut names = FieldNames::new().with("pairs", "--pair");
+    for i in 0..pairs {
+        names = names
+            .with(
+                &format!("pairs[{i}].po2"),
+                format!("the PO2 of --pair {}", i + 1),
+            )
+            .with(
+                &format!("pairs[{i}].saturation_fraction"),
+                format!("the SO2 of --pair {}", i + 1),
+            )
+            .with_conditions(&format!("pairs[{i}].conditions"), "");
+    }
+    names
+}
+
+/// `oxbind p50`.
+pub(crate) async fn p50(ctx: &Context, a: &P50Args) -> Result<(), Failure> {
+    let conditions = a.conditions.to_conditions();
     let response = ctx
         .client
         .estimate_p50(EstimateP50Request {
-            pairs: pairs
-                .into_iter()
+            pairs: a
+                .pairs
+                .iter()
                 .map(|(po2, so2)| MeasuredPair {
-                    po2: Some(po2),
-                    saturation_fraction: so2,
-                    conditions: Some(conditions.clone()),
+                    po2: Some(po2.clone()),
+                    saturation_fraction: *so2,
+                    conditions: conditions.clone(),
                 })
                 .collect(),
             unit_system: ctx.unit_system,
             model: ctx.model,
         })
         .await?;
+    let names = p50_names(a.pairs.len());
     json_or(ctx, &response, "oxbind.v1.EstimateP50Response", |r| {
+        let model = r
+            .provenance
+            .as_ref()
+            .map(|p| p.model_id.clone())
+            .unwrap_or_default();
+        // One pair: the single-point Hill result (n 2.7) and the curve-shift
+        // result of the model; two or more: the Hill fit.
+        let hill = match r.fitted_hill_n {
+            Some(_) => "Hill equation fitted to the pairs".to_owned(),
+            None => "Hill equation, n 2.7".to_owned(),
+        };
+        let shift = format!("curve shift of {model}");
         let mut t = Table::new();
-        t.quantity("P50 at conditions", r.p50_at_conditions.as_ref())
-            .quantity("P50 at standard conditions", r.p50_standard.as_ref())
-            .quantity(
-                "P50 at conditions (curve shift)",
-                r.p50_at_conditions_curve_shift.as_ref(),
-            )
-            .quantity(
-                "P50 at standard (curve shift)",
-                r.p50_standard_curve_shift.as_ref(),
-            )
-            .number("fitted Hill n", r.fitted_hill_n, 3)
-            .number("fit RMS (logit)", Some(r.fit_rms_logit), 4)
-            .provenance(r.provenance.as_ref(), &r.warnings);
+        t.quantity(
+            &format!("P50 at the measured conditions ({hill})"),
+            r.p50_at_conditions.as_ref(),
+        )
+        .quantity(
+            &format!("P50 at standard conditions ({hill})"),
+            r.p50_standard.as_ref(),
+        )
+        .quantity(
+            &format!("P50 at the measured conditions ({shift})"),
+            r.p50_at_conditions_curve_shift.as_ref(),
+        )
+        .quantity(
+            &format!("P50 at standard conditions ({shift})"),
+            r.p50_standard_curve_shift.as_ref(),
+        )
+        .number("fitted Hill n", r.fitted_hill_n, 3)
+        .number("fit RMS (logit)", Some(r.fit_rms_logit), 4)
+        .provenance(r.provenance.as_ref(), &r.warnings, &names);
         t
     })
 }
 
-/// Flags of `oxbind temperature`.
+/// Flags of `oxbind temperature`: at least one of --ph, --pco2 and --po2.
 #[derive(Debug, Clone, Args)]
+#[command(group = clap::ArgGroup::new("values").required(true).multiple(true).args(["ph", "pco2", "po2"]))]
 pub(crate) struct TemperatureArgs {
     /// pH measured at the analyser temperature.
     #[arg(long)]
@@ -383,6 +488,16 @@ pub(crate) struct TemperatureArgs {
     /// Temperature to correct to (the patient's); a bare number is Cel.
     #[arg(long, value_parser = args::temperature, value_name = "TEMPERATURE")]
     target_temp: Quantity,
+}
+
+/// How `temperature` names its fields.
+pub(crate) fn temperature_names() -> FieldNames {
+    FieldNames::new()
+        .with("ph", "--ph")
+        .with("pco2", "--pco2")
+        .with("po2", "--po2")
+        .with("measured_temperature", "--measured-temp")
+        .with("target_temperature", "--target-temp")
 }
 
 /// `oxbind temperature`.
@@ -408,10 +523,32 @@ pub(crate) async fn temperature(ctx: &Context, a: &TemperatureArgs) -> Result<()
                 .number("pH", r.ph, 3)
                 .quantity("PCO2", r.pco2.as_ref())
                 .quantity("PO2", r.po2.as_ref())
-                .provenance(r.provenance.as_ref(), &r.warnings);
+                .provenance(r.provenance.as_ref(), &r.warnings, &temperature_names());
             t
         },
     )
+}
+
+/// How `content` and `gas-exchange` name their samples' fields.
+fn sample_names(names: FieldNames) -> FieldNames {
+    names
+        .with("arterial.saturation_fraction", "--sao2")
+        .with("arterial.saturation_kind", "--saturation-kind")
+        .with("arterial.cohb", "--cohb")
+        .with("arterial.methb", "--methb")
+        .with("arterial.model", "--model")
+        .with("arterial.conditions", "the condition flags")
+        .with_conditions("arterial.conditions", "")
+        .with_hill("arterial.hill")
+        .with("venous", "--pvo2")
+        .with("venous.po2", "--pvo2")
+        .with("venous.saturation_fraction", "--svo2")
+        .with("venous.saturation_kind", "--venous-saturation-kind")
+        .with("venous.cohb", "--venous-cohb")
+        .with("venous.methb", "--venous-methb")
+        .with("venous.model", "--model")
+        .with_conditions("venous.conditions", "venous-")
+        .with_hill("venous.hill")
 }
 
 /// Flags of `oxbind content`.
@@ -420,18 +557,9 @@ pub(crate) struct ContentArgs {
     /// Haemoglobin; a bare number is g/dL.
     #[arg(long, value_parser = args::hemoglobin, value_name = "CONCENTRATION")]
     hb: Quantity,
-    /// Arterial saturation (`0.97` or `97%`).
-    #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
-    sao2: Option<f64>,
     /// Arterial PO2; a bare number is mm[Hg].
     #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
-    pao2: Option<Quantity>,
-    /// Mixed-venous saturation (`0.75` or `75%`).
-    #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
-    svo2: Option<f64>,
-    /// Mixed-venous PO2; a bare number is mm[Hg].
-    #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
-    pvo2: Option<Quantity>,
+    pao2: Quantity,
     /// Cardiac output; a bare number is L/min.
     #[arg(long, value_parser = args::blood_flow, value_name = "FLOW")]
     cardiac_output: Option<Quantity>,
@@ -439,36 +567,32 @@ pub(crate) struct ContentArgs {
     #[arg(long)]
     hufner: Option<f64>,
     #[command(flatten)]
-    conditions: ConditionArgs,
+    arterial: ArterialArgs,
+    #[command(flatten)]
+    venous: VenousArgs,
+    #[command(flatten)]
+    pub(crate) hill: HillArgs,
 }
 
-fn sample(
-    ctx: &Context,
-    so2: Option<f64>,
-    po2: Option<&Quantity>,
-    conditions: &BloodConditions,
-) -> Option<BloodSample> {
-    if so2.is_none() && po2.is_none() {
-        return None;
-    }
-    Some(BloodSample {
-        saturation_fraction: so2,
-        po2: po2.cloned(),
-        conditions: Some(conditions.clone()),
-        model: ctx.model,
-        ..Default::default()
-    })
+/// How `content` names its fields.
+pub(crate) fn content_names() -> FieldNames {
+    sample_names(FieldNames::new())
+        .with("hemoglobin", "--hb")
+        .with("arterial", "--pao2")
+        .with("arterial.po2", "--pao2")
+        .with("cardiac_output", "--cardiac-output")
+        .with("hufner_factor_ml_per_g", "--hufner")
 }
 
 /// `oxbind content`.
 pub(crate) async fn content(ctx: &Context, a: &ContentArgs) -> Result<(), Failure> {
-    let conditions = a.conditions.to_conditions();
+    let hill = a.hill.to_hill();
     let response = ctx
         .client
         .oxygen_content(OxygenContentRequest {
             hemoglobin: Some(a.hb.clone()),
-            arterial: sample(ctx, a.sao2, a.pao2.as_ref(), &conditions),
-            venous: sample(ctx, a.svo2, a.pvo2.as_ref(), &conditions),
+            arterial: Some(a.arterial.to_sample(Some(&a.pao2), ctx.model, hill.clone())),
+            venous: a.venous.to_sample(ctx.model, hill),
             cardiac_output: a.cardiac_output.clone(),
             hufner_factor_ml_per_g: a.hufner,
             unit_system: ctx.unit_system,
@@ -486,16 +610,25 @@ pub(crate) async fn content(ctx: &Context, a: &ContentArgs) -> Result<(), Failur
             .quantity("oxygen capacity", r.oxygen_capacity.as_ref())
             .quantity("oxygen delivery", r.delivery.as_ref())
             .quantity("oxygen consumption", r.consumption.as_ref())
-            .provenance(r.provenance.as_ref(), &r.warnings);
+            .provenance(r.provenance.as_ref(), &r.warnings, &content_names());
         t
     })
+}
+
+/// Forms of the alveolar gas equation.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub(crate) enum AlveolarEquationArg {
+    /// PAO2 = FiO2 (PB - PH2O) - PaCO2 (FiO2 + (1 - FiO2)/R).
+    Full,
+    /// PAO2 = FiO2 (PB - PH2O) - PaCO2/R.
+    Simplified,
 }
 
 /// Flags of `oxbind gas-exchange`.
 #[derive(Debug, Clone, Args)]
 pub(crate) struct GasExchangeArgs {
-    /// Inspired oxygen fraction (`0.5` or `50%`).
-    #[arg(long, value_parser = args::fraction_quantity, value_name = "FRACTION")]
+    /// Inspired oxygen fraction FiO2 (`0.5`, or `50%`).
+    #[arg(long, value_parser = args::fraction, value_name = "FRACTION")]
     fio2: Quantity,
     /// Arterial PO2; a bare number is mm[Hg].
     #[arg(long, value_parser = args::pressure, value_name = "PRESSURE")]
@@ -509,29 +642,56 @@ pub(crate) struct GasExchangeArgs {
     /// Respiratory quotient (default 0.8).
     #[arg(long)]
     rq: Option<f64>,
-    /// Pulse-oximetry saturation (`0.94` or `94%`).
+    /// Pulse-oximetry saturation SpO2 (`0.94`, or `94%`).
     #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
     spo2: Option<f64>,
     /// Mean airway pressure; a bare number is cm[H2O].
     #[arg(long, value_parser = args::airway_pressure, value_name = "PRESSURE")]
     mean_airway_pressure: Option<Quantity>,
-    /// Haemoglobin (for shunt); a bare number is g/dL.
-    #[arg(long, value_parser = args::hemoglobin, value_name = "CONCENTRATION")]
-    hb: Option<Quantity>,
-    /// Arterial saturation (for shunt).
-    #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
-    sao2: Option<f64>,
-    /// Mixed-venous saturation (for shunt).
-    #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
-    svo2: Option<f64>,
-    /// Body temperature; a bare number is Cel.
+    /// Body temperature, for the water vapour pressure; a bare number is Cel.
     #[arg(long, value_parser = args::temperature, value_name = "TEMPERATURE")]
     body_temp: Option<Quantity>,
+    /// Form of the alveolar gas equation (server default full).
+    #[arg(long, value_enum)]
+    alveolar_equation: Option<AlveolarEquationArg>,
+    /// Haemoglobin, for the shunt fraction; a bare number is g/dL. The shunt
+    /// needs --hb, --pao2, --paco2 and the venous sample (--pvo2 and --svo2
+    /// or the --venous-* conditions).
+    #[arg(long, value_parser = args::hemoglobin, value_name = "CONCENTRATION")]
+    hb: Option<Quantity>,
+    #[command(flatten)]
+    arterial: ArterialArgs,
+    #[command(flatten)]
+    venous: VenousArgs,
+    #[command(flatten)]
+    pub(crate) hill: HillArgs,
+}
+
+/// How `gas-exchange` names its fields.
+pub(crate) fn gas_exchange_names() -> FieldNames {
+    sample_names(FieldNames::new())
+        .with("fio2", "--fio2")
+        .with("pao2", "--pao2")
+        .with("arterial.po2", "--pao2")
+        .with("arterial", "--sao2")
+        .with("paco2", "--paco2")
+        .with("barometric_pressure", "--barometric")
+        .with("respiratory_quotient", "--rq")
+        .with("spo2_fraction", "--spo2")
+        .with("mean_airway_pressure", "--mean-airway-pressure")
+        .with("body_temperature", "--body-temp")
+        .with("alveolar_equation", "--alveolar-equation")
+        .with("hemoglobin", "--hb")
 }
 
 /// `oxbind gas-exchange`.
 pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(), Failure> {
-    let none = BloodConditions::standard();
+    let hill = a.hill.to_hill();
+    let equation = match a.alveolar_equation {
+        None => AlveolarEquation::Unspecified,
+        Some(AlveolarEquationArg::Full) => AlveolarEquation::Full,
+        Some(AlveolarEquationArg::Simplified) => AlveolarEquation::Simplified,
+    };
     let response = ctx
         .client
         .gas_exchange(GasExchangeRequest {
@@ -543,28 +703,51 @@ pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(
             spo2_fraction: a.spo2,
             mean_airway_pressure: a.mean_airway_pressure.clone(),
             hemoglobin: a.hb.clone(),
-            venous: sample(ctx, a.svo2, None, &none),
-            arterial: sample(ctx, a.sao2, None, &none),
+            venous: a.venous.to_sample(ctx.model, hill.clone()),
+            // The arterial PO2 is pao2 (the server's rule when the sample
+            // has none).
+            arterial: a
+                .arterial
+                .is_given()
+                .then(|| a.arterial.to_sample(None, ctx.model, hill)),
             body_temperature: a.body_temp.clone(),
             unit_system: ctx.unit_system,
-            alveolar_equation: 0,
+            alveolar_equation: equation as i32,
         })
         .await?;
+    // The ratios of PaO2 to FiO2 are pressures (per unit fraction), in the
+    // response's pressure unit.
+    let pressure_unit = response
+        .alveolar_po2
+        .as_ref()
+        .or(response.imputed_pao2.as_ref())
+        .map(|q| q.unit.clone())
+        .unwrap_or_else(|| ctx.pressure_unit().to_owned());
     json_or(ctx, &response, "oxbind.v1.GasExchangeResponse", |r| {
+        let ratio = |v: Option<f64>| {
+            v.map(|v| {
+                let decimals = if pressure_unit == "kPa" { 1 } else { 0 };
+                format!("{v:.decimals$} {pressure_unit}")
+            })
+        };
         let mut t = Table::new();
         t.quantity("alveolar PO2", r.alveolar_po2.as_ref())
             .quantity(
                 "alveolar-arterial gradient",
                 r.alveolar_arterial_gradient.as_ref(),
-            )
-            .number("PaO2/FIO2 ratio", r.pao2_fio2_ratio, 0)
-            .number("SpO2/FIO2 ratio", r.spo2_fio2_ratio, 0)
-            .quantity("PaO2 imputed from SpO2", r.imputed_pao2.as_ref())
-            .number("imputed PaO2/FIO2 ratio", r.imputed_pao2_fio2_ratio, 0)
-            .number("oxygenation index", r.oxygenation_index, 1)
+            );
+        if let Some(v) = ratio(r.pao2_fio2_ratio) {
+            t.row("PaO2/FiO2 ratio", v);
+        }
+        t.number("SpO2/FiO2 ratio", r.spo2_fio2_ratio, 0)
+            .quantity("PaO2 imputed from SpO2", r.imputed_pao2.as_ref());
+        if let Some(v) = ratio(r.imputed_pao2_fio2_ratio) {
+            t.row("imputed PaO2/FiO2 ratio", v);
+        }
+        t.number("oxygenation index", r.oxygenation_index, 1)
             .number("oxygen saturation index", r.oxygen_saturation_index, 1)
             .number("shunt fraction", r.shunt_fraction, 3)
-            .provenance(r.provenance.as_ref(), &r.warnings);
+            .provenance(r.provenance.as_ref(), &r.warnings, &gas_exchange_names());
         t
     })
 }
@@ -573,14 +756,28 @@ pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(
 pub(crate) async fn models(ctx: &Context) -> Result<(), Failure> {
     let response = ctx.client.list_models(ListModelsRequest {}).await?;
     if ctx.json {
-        return print_json(&response, "oxbind.v1.ListModelsResponse").map_err(Failure::Other);
+        return print_json(&response, "oxbind.v1.ListModelsResponse");
     }
     for model in &response.models {
         let marker = if model.is_default { " (default)" } else { "" };
-        println!("{:<24} {}{marker}", model.model_id, model.title);
+        output::line(format!("{:<24} {}{marker}", model.model_id, model.title))?;
+        let honoured: Vec<String> = model
+            .honoured_conditions
+            .iter()
+            .map(|f| output::factor_name(*f))
+            .collect();
+        output::line(format!(
+            "{:<24} takes into account: {}",
+            "",
+            if honoured.is_empty() {
+                "no blood condition".to_owned()
+            } else {
+                honoured.join(", ")
+            }
+        ))?;
     }
     if !response.cautions.is_empty() {
-        println!("\n{}", response.cautions);
+        output::line(format!("\n{}", response.cautions))?;
     }
     Ok(())
 }
@@ -599,11 +796,11 @@ pub(crate) async fn health(ctx: &Context) -> Result<(), Failure> {
             .iter()
             .map(|(n, s)| (n.to_string(), serde_json::Value::from(s.as_str_name())))
             .collect();
-        println!("{}", serde_json::Value::Object(map));
+        output::line(serde_json::Value::Object(map))?;
     } else {
         for (name, status) in rows {
             let label = if name.is_empty() { "(server)" } else { name };
-            println!("{label:<36} {}", status.as_str_name());
+            output::line(format!("{label:<36} {}", status.as_str_name()))?;
         }
     }
     if all_serving {

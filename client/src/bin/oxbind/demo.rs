@@ -12,7 +12,7 @@ use oxbind_client::v1::{
 };
 
 use crate::{
-    commands::describe,
+    commands::{curve_point_names, describe},
     failure::Failure,
     output::{self, Table},
     plot::{self, Series},
@@ -20,7 +20,7 @@ use crate::{
 };
 
 /// The fictional hospital of the scenario.
-pub(crate) const HOSPITAL: &str = "Larchmere Valley Infirmary (fictional)";
+pub(crate) const HOSPITAL: &str = "Larchmere Valley Infirmary";
 
 /// The cautions the demo prints before and after its cases.
 pub(crate) const CAUTION: &str = "Caution: invented patients at a fictional hospital. \
@@ -31,14 +31,17 @@ which values are reported.";
 /// Flags of `oxbind demo`.
 #[derive(Debug, Clone, Args)]
 pub(crate) struct DemoArgs {
-    /// Where to write the SVG of the cases' curves beside the standard one.
-    #[arg(long, value_name = "FILE", default_value = "oxbind-demo-curves.svg")]
-    pub(crate) svg: PathBuf,
+    /// Also draw the cases' curves beside the standard one into this SVG file
+    /// (nothing is written without it).
+    #[arg(long, value_name = "FILE")]
+    pub(crate) svg: Option<PathBuf>,
 }
 
 /// One invented case.
 struct Case {
     label: &'static str,
+    /// The legend of its curve in the plot.
+    curve_label: &'static str,
     story: &'static str,
     po2: Quantity,
     conditions: BloodConditions,
@@ -48,7 +51,8 @@ fn cases() -> Vec<Case> {
     vec![
         Case {
             label: "hypothermic after surgery",
-            story: "Recovery bay 3: 71-year-old after a long open abdominal operation, core temperature 33.2 Cel.",
+            curve_label: "hypothermic after surgery",
+            story: "Recovery bay 3: 71-year-old after a long open abdominal operation, core temperature 33.2 °C.",
             po2: Quantity::mm_hg(92.0),
             conditions: BloodConditions::standard()
                 .with_ph(7.35)
@@ -57,6 +61,7 @@ fn cases() -> Vec<Case> {
         },
         Case {
             label: "diabetic ketoacidosis",
+            curve_label: "diabetic ketoacidosis",
             story: "Emergency department: 19-year-old in diabetic ketoacidosis, deep rapid breathing.",
             po2: Quantity::mm_hg(104.0),
             conditions: BloodConditions::standard()
@@ -65,7 +70,8 @@ fn cases() -> Vec<Case> {
         },
         Case {
             label: "stored red-cell unit, low 2,3-DPG",
-            story: "Blood bank: a red-cell unit late in storage, 2,3-DPG depleted, warmed to 37 Cel.",
+            curve_label: "stored red-cell unit, low 2,3-DPG",
+            story: "Blood bank: a red-cell unit late in storage, 2,3-DPG depleted, warmed to 37 °C.",
             po2: Quantity::mm_hg(60.0),
             conditions: BloodConditions::standard()
                 .with_ph(7.25)
@@ -74,7 +80,10 @@ fn cases() -> Vec<Case> {
         },
         Case {
             label: "smoke inhalation, raised COHb",
-            story: "Emergency department: 46-year-old rescued from a house fire, carboxyhaemoglobin 24 %.",
+            curve_label: "smoke inhalation, COHb 24 % (functional saturation: COHb carries no oxygen)",
+            story: "Emergency department: 46-year-old rescued from a house fire, carboxyhaemoglobin 24 %. \
+The saturation below is functional, O2Hb / (O2Hb + HHb): the 24 % bound to carbon monoxide \
+carries no oxygen, so at most 76 % of the haemoglobin does.",
             po2: Quantity::mm_hg(88.0),
             conditions: BloodConditions::standard()
                 .with_ph(7.29)
@@ -94,9 +103,12 @@ pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
     } else {
         ctx.model
     };
-    println!("Oxbind demonstration: {HOSPITAL}\n{CAUTION}\n");
+    output::line(format!(
+        "Oxbind demonstration: {HOSPITAL} (a fictional hospital)\n{CAUTION}\n"
+    ))?;
     let catalog = ctx.client.list_models(ListModelsRequest {}).await?;
     let cases = cases();
+    let names = curve_point_names();
     for (n, case) in cases.iter().enumerate() {
         let shift = ctx
             .client
@@ -116,7 +128,15 @@ pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
                 unit_system: ctx.unit_system,
             })
             .await?;
-        println!("Case {}: {}\n  {}", n + 1, case.label, case.story);
+        // The PO2 as the server used it, in the answer's unit system.
+        let po2 = saturation
+            .provenance
+            .as_ref()
+            .and_then(|p| p.inputs_used.iter().find(|i| i.name == "po2"))
+            .and_then(|i| i.value.as_ref())
+            .map(output::quantity)
+            .unwrap_or_else(|| output::quantity(&case.po2));
+        output::line(format!("Case {}: {}\n  {}", n + 1, case.label, case.story))?;
         let mut t = Table::new();
         t.row("conditions", describe(&case.conditions))
             .quantity("P50 at standard conditions", shift.p50_standard.as_ref())
@@ -126,48 +146,55 @@ pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
                 format!("{:+.3} log10 units", shift.log10_p50_shift),
             )
             .row(
-                format!("saturation at PO2 {}", output::quantity(&case.po2)),
+                format!("functional saturation at PO2 {po2}"),
                 output::saturation(saturation.saturation_fraction),
             )
-            .provenance(saturation.provenance.as_ref(), &saturation.warnings);
+            .provenance(saturation.provenance.as_ref(), &saturation.warnings, &names);
         for w in &shift.warnings {
             if !saturation.warnings.contains(w) {
-                t.row("warning", output::warning(w));
+                t.row(
+                    format!("warning ({})", output::severity_name(w.severity)),
+                    output::warning_text(w, &names),
+                );
             }
         }
-        t.print();
-        println!();
+        t.print()?;
+        output::line("")?;
     }
 
-    let mut sets = vec![BloodConditions::standard()];
-    sets.extend(cases.iter().map(|c| c.conditions.clone()));
-    let curves = ctx
-        .client
-        .sample_curve(SampleCurveRequest {
-            condition_sets: sets,
-            model,
-            unit_system: ctx.unit_system,
-            point_count: 121,
-            ..Default::default()
-        })
-        .await?;
-    let labels = std::iter::once("standard conditions").chain(cases.iter().map(|c| c.label));
-    let series: Vec<Series> = curves
-        .curves
-        .iter()
-        .zip(labels)
-        .map(|(c, l)| Series::from_curve(l, c))
-        .collect();
-    plot::write_svg(&a.svg, "Invented cases against the standard curve", &series)
-        .map_err(Failure::Other)?;
-    println!(
-        "Curves of the {} cases and the standard curve: {}",
-        cases.len(),
-        a.svg.display()
-    );
-    if !catalog.cautions.is_empty() {
-        println!("\nServer cautions: {}", catalog.cautions);
+    if let Some(path) = &a.svg {
+        let mut sets = vec![BloodConditions::standard()];
+        sets.extend(cases.iter().map(|c| c.conditions.clone()));
+        let curves = ctx
+            .client
+            .sample_curve(SampleCurveRequest {
+                condition_sets: sets,
+                model,
+                unit_system: ctx.unit_system,
+                point_count: 121,
+                ..Default::default()
+            })
+            .await?;
+        let labels =
+            std::iter::once("standard conditions").chain(cases.iter().map(|c| c.curve_label));
+        let series: Vec<Series> = curves
+            .curves
+            .iter()
+            .zip(labels)
+            .map(|(c, l)| Series::from_curve(l, c))
+            .collect();
+        plot::write_svg(path, "Invented cases against the standard curve", &series)
+            .map_err(Failure::Other)?;
+        output::line(format!(
+            "Curves of the {} cases and the standard curve: {}",
+            cases.len(),
+            path.display()
+        ))?;
+    } else {
+        output::line("Add --svg FILE to draw the cases' curves beside the standard one.")?;
     }
-    println!("\n{CAUTION}");
-    Ok(())
+    if !catalog.cautions.is_empty() {
+        output::line(format!("\nServer cautions: {}", catalog.cautions))?;
+    }
+    output::line(format!("\n{CAUTION}"))
 }

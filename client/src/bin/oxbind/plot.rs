@@ -1,4 +1,8 @@
 //! SVG plots of dissociation curves, drawn with the `plotters` crate.
+//!
+//! Each curve's P50 is marked with a dot on the curve and stated, with its
+//! unit, in the curve's legend entry: labels never sit on the curves or on
+//! one another.
 
 use std::path::Path;
 
@@ -8,7 +12,7 @@ use plotters::prelude::*;
 /// One curve to draw.
 #[derive(Debug, Clone)]
 pub(crate) struct Series {
-    /// Legend text.
+    /// Legend text (the P50 is added to it).
     pub(crate) label: String,
     /// Unit of the PO2 axis (UCUM code).
     pub(crate) po2_unit: String,
@@ -32,6 +36,17 @@ impl Series {
             p50: curve.p50.as_ref().map(|q| q.value),
         }
     }
+
+    /// The legend text: the label and the P50 with its unit.
+    fn legend(&self) -> String {
+        match self.p50.filter(|p| p.is_finite()) {
+            Some(p50) => {
+                let decimals = if self.po2_unit == "kPa" { 2 } else { 1 };
+                format!("{}: P50 {p50:.decimals$} {}", self.label, self.po2_unit)
+            }
+            None => self.label.clone(),
+        }
+    }
 }
 
 /// Colours for the curves, in order (the first is the standard curve).
@@ -44,8 +59,9 @@ const COLOURS: [RGBColor; 6] = [
     RGBColor(230, 159, 0),
 ];
 
-/// Draw `series` into an SVG file at `path`: PO2 on x, saturation in % on
-/// y, a filled circle and a label at each curve's P50, and a legend.
+/// Draw `series` into an SVG file at `path`: PO2 on x, functional
+/// saturation in % on y, a dot at each curve's P50, and a legend giving
+/// each curve's P50 with its unit.
 pub(crate) fn write_svg(path: &Path, title: &str, series: &[Series]) -> Result<(), String> {
     draw(path, title, series).map_err(|e| format!("drawing {}: {e}", path.display()))
 }
@@ -77,7 +93,7 @@ fn draw(
     chart
         .configure_mesh()
         .x_desc(format!("oxygen tension PO2 ({unit})"))
-        .y_desc("oxygen saturation SO2 (%)")
+        .y_desc("functional oxygen saturation SO2 (%)")
         .light_line_style(WHITE.mix(0.0))
         .draw()?;
     for (i, s) in series.iter().enumerate() {
@@ -87,7 +103,7 @@ fn draw(
                 s.points.iter().map(|&(x, y)| (x, y * 100.0)),
                 colour.stroke_width(2),
             ))?
-            .label(s.label.clone())
+            .label(s.legend())
             .legend(move |(x, y)| Rectangle::new([(x, y - 5), (x + 18, y + 5)], colour.filled()));
         if let Some(p50) = s.p50.filter(|p| p.is_finite()) {
             chart.draw_series(std::iter::once(Circle::new(
@@ -95,16 +111,12 @@ fn draw(
                 5,
                 colour.filled(),
             )))?;
-            chart.draw_series(std::iter::once(Text::new(
-                format!("P50 {p50:.1}"),
-                (p50, 50.0 - 4.0 - 3.5 * i as f64),
-                ("sans-serif", 13).into_font().color(&colour),
-            )))?;
         }
     }
     chart
         .configure_series_labels()
         .position(SeriesLabelPosition::LowerRight)
+        .label_font(("sans-serif", 14))
         .background_style(WHITE.mix(0.9))
         .border_style(BLACK)
         .draw()?;
