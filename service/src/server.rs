@@ -162,7 +162,7 @@ where
                 .max_encoding_message_size(encode),
         )
         .add_service(
-            ModelCatalogServiceServer::new(CatalogApi::new(config.max_batch_items))
+            ModelCatalogServiceServer::new(CatalogApi::from_config(&config))
                 .max_decoding_message_size(decode)
                 .max_encoding_message_size(encode),
         );

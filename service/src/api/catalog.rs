@@ -3,13 +3,19 @@
 //! uses.
 
 use oxbind_proto::v1::{
-    model_catalog_service_server::ModelCatalogService, HillPreset, HillPresetDescription,
-    InputLimit, ListModelsRequest, ListModelsResponse, Model as WireModel, ModelDescription,
-    Quantity, UnitSystem, ValidatedRange,
+    model_catalog_service_server::ModelCatalogService, GetServerSettingsRequest,
+    GetServerSettingsResponse, HillPreset, HillPresetDescription, InputLimit, ListModelsRequest,
+    ListModelsResponse, Model as WireModel, ModelDescription, Quantity, UnitSystem, ValidatedRange,
 };
 use tonic::{Request, Response, Status};
 
-use super::{dissociation::shift_factor, limits, units};
+use super::{
+    dissociation::shift_factor,
+    limits,
+    server_settings::{compute_get_server_settings, ReportedSettings},
+    units,
+};
+use crate::config::Config;
 use crate::physiology::{
     conditions::Condition,
     error::Input,
@@ -33,16 +39,29 @@ haemoglobin by educational sources; n 2.7 assumed (the adult value)";
 const MYOGLOBIN_PRESET_SOURCE: &str = "n 1 (a single binding site: hyperbolic curve, common \
 practice); P50 2.8 mm[Hg] at 37 Cel from memory (about 2 Torr per Wikibooks Structural Biochemistry)";
 
-/// The model catalog RPC.
+/// The model catalog RPCs.
 #[derive(Debug, Clone)]
 pub struct CatalogApi {
     max_batch_items: usize,
+    settings: std::sync::Arc<ReportedSettings>,
 }
 
 impl CatalogApi {
-    /// A catalog that reports `max_batch_items` as the batch limit.
+    /// A catalog that reports `max_batch_items` as the batch limit, and the
+    /// default configuration's settings.
     pub fn new(max_batch_items: usize) -> Self {
-        Self { max_batch_items }
+        Self::from_config(&Config {
+            max_batch_items,
+            ..Config::default()
+        })
+    }
+
+    /// A catalog that reports the limits and settings of `config`.
+    pub fn from_config(config: &Config) -> Self {
+        Self {
+            max_batch_items: config.max_batch_items,
+            settings: std::sync::Arc::new(ReportedSettings::from_config(config)),
+        }
     }
 }
 
@@ -53,6 +72,16 @@ impl ModelCatalogService for CatalogApi {
         _request: Request<ListModelsRequest>,
     ) -> Result<Response<ListModelsResponse>, Status> {
         Ok(Response::new(list_models(self.max_batch_items)))
+    }
+
+    async fn get_server_settings(
+        &self,
+        request: Request<GetServerSettingsRequest>,
+    ) -> Result<Response<GetServerSettingsResponse>, Status> {
+        Ok(Response::new(compute_get_server_settings(
+            request.get_ref(),
+            &self.settings,
+        )))
     }
 }
 
