@@ -15,6 +15,7 @@ mod fields;
 mod model_arg;
 mod output;
 mod plot;
+mod verify;
 
 use std::{path::PathBuf, time::Duration};
 
@@ -62,9 +63,14 @@ pub(crate) struct Cli {
 
     /// Print protobuf JSON (lowerCamelCase names, enums as names) instead of
     /// a table; a refusal is then one JSON object on standard error, with
-    /// the contract's field paths.
-    #[arg(long, global = true, help_heading = GLOBAL)]
-    json: bool,
+    /// the contract's field paths. (`oxbind verify --json FILE` writes its
+    /// JSON report to FILE instead.)
+    // A value-less flag whose value, when given, is empty: `verify` defines
+    // its own `--json FILE` under the same id, which clap then does not
+    // propagate here, and both read as text.
+    #[arg(long, global = true, help_heading = GLOBAL, num_args = 0, default_missing_value = "",
+          value_name = "")]
+    json: Option<String>,
 
     /// PEM bundle of CA certificates to trust (turns on TLS).
     #[arg(long, global = true, help_heading = GLOBAL, env = "OXBIND_CA_CERT", value_name = "FILE")]
@@ -129,6 +135,11 @@ enum Command {
     Batch(batch::BatchArgs),
     /// An invented scenario at a fictional hospital (`--svg` draws its curves).
     Demo(demo::DemoArgs),
+    /// Run every published check case through the server, through each
+    /// door it answers on, and write a report a laboratory can file
+    /// (`--report` HTML, `--json` JSON); exit 0 only if every case passed.
+    #[command(after_help = verify::AFTER_HELP)]
+    Verify(verify::VerifyArgs),
     /// Print a shell completion script.
     Completions {
         /// The shell.
@@ -236,15 +247,17 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
         )))
     };
     match &cli.command {
-        Command::Batch(_) if cli.json => unused("--json", "batch (it writes CSV)"),
-        Command::Demo(_) if cli.json => unused("--json", "demo"),
-        Command::Health | Command::Models | Command::Completions { .. } if cli.model.is_some() => {
-            unused("--model", "health, models or completions")
+        Command::Batch(_) if cli.json.is_some() => unused("--json", "batch (it writes CSV)"),
+        Command::Demo(_) if cli.json.is_some() => unused("--json", "demo"),
+        Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
+            if cli.model.is_some() =>
+        {
+            unused("--model", "health, models, verify or completions")
         }
-        Command::Health | Command::Models | Command::Completions { .. }
+        Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
             if cli.unit_system.is_some() =>
         {
-            unused("--unit-system", "health, models or completions")
+            unused("--unit-system", "health, models, verify or completions")
         }
         _ => Ok(()),
     }
@@ -271,11 +284,21 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         _ => None,
     };
     let server_name = source_name(matches, "server", "--server", "OXBIND_SERVER");
+    if let Command::Verify(args) = &cli.command {
+        let connection = verify::Connection {
+            server: &cli.server,
+            server_name: &server_name,
+            ca_cert: cli.ca_cert.as_ref(),
+            identity: cli.client_cert.as_ref().zip(cli.client_key.as_ref()),
+            timeout: cli.timeout,
+        };
+        return verify::run(args, &connection).await;
+    }
     let ctx = Context {
         client: connect(cli, &server_name).await?,
         model,
         unit_system,
-        json: cli.json,
+        json: cli.json.is_some(),
     };
     match &cli.command {
         Command::Saturation(a) => commands::saturation(&ctx, a).await,
@@ -293,7 +316,7 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
             None => Ok(()),
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
-        Command::Completions { .. } => Ok(()),
+        Command::Completions { .. } | Command::Verify(_) => Ok(()),
     }
 }
 
@@ -320,7 +343,7 @@ async fn main() {
         Ok(()) => failure::EXIT_OK,
         Err(failure) => failure.report(&Reporting {
             names: &names_for(&cli.command),
-            json: cli.json,
+            json: cli.json.is_some() && !matches!(cli.command, Command::Verify(_)),
             timeout: &timeout,
         }),
     };
