@@ -30,7 +30,7 @@ pub(crate) const HASH_METHOD: &str = "SHA-256 (FIPS 180-4) of canonical JSON: th
 answer read through the contract of this build of oxbind (protobuf JSON mapping, lowerCamelCase \
 names, every field present including defaults, enums by name), then written with no whitespace, \
 object keys in ascending order of their UTF-8 bytes and numbers in shortest round-trip form. The \
-catalog hash covers the `models` list; the hard-limit hash covers the `inputLimits` list. Hashes \
+catalog hash covers the models list; the hard-limit hash covers the inputLimits list. Hashes \
 made by the same build of oxbind are comparable.";
 
 /// The uncertainty statement while the service offers none.
@@ -44,7 +44,7 @@ pub(crate) const ALSO_DUE_WHEN: [&str; 5] = [
     "the build commit changes",
     "the catalog hash changes",
     "the hard-limit hash changes",
-    "a reported setting changes (compare a later run with `oxbind verify --compare` this report's JSON)",
+    "a reported setting changes (run oxbind verify --compare with this report's JSON to see what changed)",
 ];
 
 /// The whole report.

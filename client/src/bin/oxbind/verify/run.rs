@@ -300,7 +300,7 @@ fn identity(
                     "GetServerSettings".to_owned(),
                     Settings {
                         reported: true,
-                        note: "as reported by GetServerSettings (file paths and keys are never \
+                        note: "As reported by GetServerSettings (file paths and keys are never \
                                reported)"
                             .to_owned(),
                         items,
@@ -315,7 +315,7 @@ fn identity(
                 Settings {
                     reported: false,
                     note: format!(
-                        "the server reports no settings (GetServerSettings: {} {})",
+                        "The server reports no settings (GetServerSettings: {} {})",
                         failure.code, failure.message
                     ),
                     items: Vec::new(),

@@ -30,7 +30,12 @@ thead { display: table-header-group; }
 tr { break-inside: avoid; page-break-inside: avoid; }
 table.facts th { width: 28%; }
 .mono, code { font-family: "DejaVu Sans Mono", "Liberation Mono", monospace; font-size: 7.6pt;
-  overflow-wrap: anywhere; word-break: break-all; }
+  overflow-wrap: anywhere; }
+table.cases { table-layout: fixed; }
+table.cases col.check { width: 27%; } table.cases col.expected { width: 17%; }
+table.cases col.tolerance { width: 11%; } table.cases col.observed { width: 22%; }
+table.cases col.difference { width: 14%; } table.cases col.result { width: 9%; }
+html { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
 .num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 .verdict-pass { font-weight: bold; }
 .verdict-fail { font-weight: bold; color: #a00000; }
@@ -74,10 +79,10 @@ pub(crate) fn render(report: &Report) -> String {
                 p { (report.uncertainty.statement) }
                 (coverage(report))
                 (failed(report))
+                (sign_off(report))
                 (all_cases(report))
                 (not_run(report))
                 (case_data(report))
-                (sign_off(report))
             }
         }
     };
@@ -240,7 +245,10 @@ fn all_cases(report: &Report) -> Markup {
 
 fn case_table(cases: &[&CaseRecord]) -> Markup {
     html! {
-        table {
+        table.cases {
+            colgroup {
+                col.check; col.expected; col.tolerance; col.observed; col.difference; col.result;
+            }
             thead {
                 tr {
                     th { "Check" } th { "Expected" } th { "Tolerance" } th { "Observed" }
@@ -286,7 +294,7 @@ fn check_row(check: &CheckOutcome) -> Markup {
                     None => { "absent" }
                 }
             }
-            td.mono { @if let Some(d) = check.difference { (number_text(d)) } }
+            td.mono { @if let Some(d) = check.difference { (difference_text(d)) } }
             td { @if check.passed { span."verdict-pass" { "pass" } } @else { span."verdict-fail" { "FAIL" } } }
         }
     }
@@ -339,7 +347,8 @@ fn sign_off(report: &Report) -> Markup {
         h2 { "Review and approval" }
         p {
             "To be completed by the laboratory. Approval records that the laboratory has reviewed this report "
-            "under its own verification procedure."
+            "under its own verification procedure. The evidence follows: every case, the source rows that are "
+            "not cases, and the case data."
         }
         div.signoff {
             @for block in &report.sign_off {
@@ -372,6 +381,16 @@ fn value_text(value: &Value) -> String {
     }
 }
 
+/// A difference to three significant figures (the JSON report keeps every
+/// digit).
+fn difference_text(value: f64) -> String {
+    if value == 0.0 {
+        "0".to_owned()
+    } else {
+        format!("{value:.2e}")
+    }
+}
+
 /// A number in the shortest form that reads back to it; very small and
 /// very large ones in exponent form.
 fn number_text(value: f64) -> String {
@@ -394,6 +413,8 @@ mod tests {
         assert_eq!(number_text(2.5e-5), "2.5e-5");
         assert_eq!(number_text(0.0), "0");
         assert_eq!(number_text(1000.4), "1000.4");
+        assert_eq!(difference_text(3.9615266733e-8), "3.96e-8");
+        assert_eq!(difference_text(0.0), "0");
     }
 
     #[test]

@@ -79,19 +79,19 @@ impl ConnectJson {
     }
 }
 
-/// An HTTP client error and its causes, in a line.
+/// What an HTTP client error means, in words that do not change from run to
+/// run (the transport's own messages can vary with timing, and the report
+/// must not).
 pub(crate) fn describe(error: &reqwest::Error) -> String {
-    let mut text = error.to_string();
-    let mut source = std::error::Error::source(error);
-    while let Some(cause) = source {
-        let cause_text = cause.to_string();
-        if !text.contains(&cause_text) {
-            text.push_str(": ");
-            text.push_str(&cause_text);
-        }
-        source = cause.source();
+    if error.is_connect() {
+        "could not connect".to_owned()
+    } else if error.is_timeout() {
+        "no answer within --timeout".to_owned()
+    } else if error.is_body() || error.is_decode() {
+        "the answer broke off".to_owned()
+    } else {
+        "no answer in this protocol".to_owned()
     }
-    text
 }
 
 impl Surface for ConnectJson {
