@@ -79,6 +79,9 @@ echo "${#manifests[@]} manifests valid"
 step "interop (an independent Python grpcio client)"
 bash tests/interop/run.sh
 
+step "Connect (the official Connect client for Python, connectrpc)"
+bash tests/connect/run.sh
+
 step "fuzz smoke (cargo-fuzz on the nightly toolchain: corpus replay and about 60 s of fuzzing)"
 bash tests/fuzz-smoke.sh
 

@@ -573,7 +573,7 @@ impl OxbindClient {
 /// provenance entry copied in under `PROVENANCE_PLACEMENT_SHARED`) or the
 /// item's error; an item with neither is an error too.
 fn item_results<R>(
-    items: impl Iterator<Item = (Option<Result<R, tonic_types::pb::Status>>, u32)>,
+    items: impl Iterator<Item = (Option<Result<R, oxbind_proto::google::rpc::Status>>, u32)>,
     shared: &[Provenance],
     placement: ProvenancePlacement,
     set_provenance: impl Fn(&mut R, Provenance),

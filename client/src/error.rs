@@ -1,8 +1,8 @@
 //! One error type for every call: [`ClientError`].
 
+use oxbind_proto::google::rpc as pb;
 use prost::Message;
 use tonic::Code;
-use tonic_types::pb;
 
 /// One field the server refused, from `google.rpc.BadRequest`.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -121,7 +121,7 @@ impl ClientError {
     }
 }
 
-fn decode_details(details: &[prost_types::Any]) -> (Vec<FieldViolation>, Option<ErrorInfo>) {
+fn decode_details(details: &[oxbind_proto::Any]) -> (Vec<FieldViolation>, Option<ErrorInfo>) {
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {

@@ -24,7 +24,7 @@ use oxbind_client::v1::{
     ShiftFactorsResponse, TensionFromSaturationRequest, TensionFromSaturationResponse,
 };
 use oxbind_service::{
-    api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
+    grpc::{CatalogApi, DissociationApi, TransportApi},
     Config, ServeError,
 };
 use oxbind_tests::TestServer;

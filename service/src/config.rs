@@ -210,10 +210,11 @@ pub struct Config {
     #[arg(long, env = ENV_GRPC_WEB)]
     pub grpc_web: bool,
 
-    /// Origins a browser may call from with grpc-web (comma-separated, e.g.
-    /// `https://dashboard.example.org`); none by default.
+    /// Origins a browser may call from, with grpc-web or the Connect protocol
+    /// (comma-separated, e.g. `https://dashboard.example.org`); none by
+    /// default.
     #[arg(long, env = ENV_CORS_ALLOWED_ORIGINS, value_name = "ORIGINS", value_delimiter = ',',
-          value_parser = parse_origin, requires = "grpc_web")]
+          value_parser = parse_origin)]
     pub cors_allowed_origins: Vec<String>,
 }
 
@@ -449,14 +450,15 @@ mod tests {
     }
 
     #[test]
-    fn cors_origins_need_grpc_web_and_must_be_origins() {
-        let error = Config::try_parse_from([
+    fn cors_origins_must_be_origins_and_serve_connect_without_grpc_web() {
+        let parsed = Config::try_parse_from([
             "oxbind-server",
             "--cors-allowed-origins",
             "https://a.example",
         ])
-        .unwrap_err();
-        assert!(error.to_string().contains("--grpc-web"), "{error}");
+        .unwrap();
+        assert!(!parsed.grpc_web);
+        assert_eq!(parsed.cors_allowed_origins, ["https://a.example"]);
         let error = Config::try_parse_from([
             "oxbind-server",
             "--grpc-web",

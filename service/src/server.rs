@@ -1,7 +1,15 @@
-//! Start-up and shutdown: the gRPC server on an already-bound listener.
+//! Start-up and shutdown: the server on an already-bound listener.
 //!
 //! [`serve`] takes the listener and any shutdown future, so the binary passes a
 //! real socket and the OS signals, and tests pass port 0 and a oneshot.
+//!
+//! The main listener serves gRPC, grpc-web (behind a flag) and the Connect
+//! protocol, over HTTP/2 and HTTP/1.1. Each request passes, outermost first:
+//! CORS (when origins are configured), the door dispatch
+//! ([`crate::http::DispatchLayer`]: Connect by content type, refusals for
+//! v1 paths), then, for gRPC and grpc-web only, grpc-web translation, the
+//! per-call layer and the tonic routes. The Connect door has its own copy of
+//! the same per-call layer (one shared call limit).
 
 use std::{future::Future, time::Duration};
 
@@ -15,13 +23,15 @@ use oxbind_proto::{
     FILE_DESCRIPTOR_SET,
 };
 use tokio::net::TcpListener;
-use tonic::transport::{server::TcpIncoming, Certificate, Identity, Server, ServerTlsConfig};
+use tonic::transport::{server::TcpIncoming, Server};
 use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::util::option_layer;
 
+use crate::api::server_settings::ReportedSettings;
 use crate::{
-    api::{catalog::CatalogApi, dissociation::DissociationApi, transport::TransportApi},
     config::Config,
+    grpc::{CatalogApi, DissociationApi, TransportApi},
+    http::{connect, DispatchLayer},
     layers::{call::CallLayer, connections::limited_incoming, web},
 };
 
@@ -122,32 +132,42 @@ where
             ),
         )
     };
-    let tls = tls_config(&config)?;
+    // TLS is done before tonic sees a connection (tls.rs): ALPN offers
+    // HTTP/1.1 as well as HTTP/2.
+    let tls = crate::tls::acceptor(&config).map_err(ServeError::Tls)?;
 
-    let mut builder = Server::builder()
+    let builder = Server::builder()
         .max_concurrent_streams(config.max_concurrent_streams)
         .http2_keepalive_interval(Some(config.keepalive_interval))
         .http2_keepalive_timeout(Some(config.keepalive_timeout))
-        .accept_http1(config.grpc_web);
-    if let Some(tls) = tls {
-        builder = builder
-            .tls_config(tls)
-            .map_err(|e| ServeError::Tls(e.to_string()))?;
-    }
-    let cors = config
-        .grpc_web
+        // HTTP/1.1 always: the Connect protocol and grpc-web use it.
+        .accept_http1(true);
+    let cors = (config.grpc_web || !config.cors_allowed_origins.is_empty())
         .then(|| web::cors_layer(&config.cors_allowed_origins));
     let grpc_web = config.grpc_web.then(web::grpc_web_layer);
     let decode = config.max_decoded_message_bytes;
     let encode = config.max_encoded_message_bytes;
+    // One per-call layer (one call limit) for both stacks below.
+    let call_layer = CallLayer::new(config.max_concurrent_calls, config.call_timeout);
+    let connect = connect::door(
+        &call_layer,
+        connect::Limits {
+            max_batch_items: config.max_batch_items,
+            max_request_bytes: decode,
+            max_response_bytes: encode,
+            settings: std::sync::Arc::new(ReportedSettings::from_config(&config)),
+        },
+    );
 
     let router = builder
         .layer(option_layer(cors))
+        // The dispatch: Connect (with its own copy of the per-call layer)
+        // and refusals here; gRPC and grpc-web go on below.
+        .layer(DispatchLayer::new(connect, config.grpc_web))
+        // Only gRPC and grpc-web requests pass this point: a gRPC
+        // strictness layer goes here.
         .layer(option_layer(grpc_web))
-        .layer(CallLayer::new(
-            config.max_concurrent_calls,
-            config.call_timeout,
-        ))
+        .layer(call_layer)
         .add_service(health_service.clone())
         .add_optional_service(reflection)
         .add_optional_service(reflection_v1alpha)
@@ -192,7 +212,7 @@ where
     if let Ok(address) = listener.local_addr() {
         tracing::info!(%address, "serving");
     }
-    let incoming = limited_incoming(listener, config.max_connections);
+    let incoming = crate::tls::incoming(limited_incoming(listener, config.max_connections), tls);
 
     let (drain_started_tx, drain_started_rx) = tokio::sync::oneshot::channel::<()>();
     let drain_reporter = reporter.clone();
@@ -223,22 +243,6 @@ where
     outcome?;
     tracing::info!("stopped");
     Ok(())
-}
-
-/// The TLS configuration `config` asks for: none, TLS, or mutual TLS.
-fn tls_config(config: &Config) -> Result<Option<ServerTlsConfig>, ServeError> {
-    let (Some(cert), Some(key)) = (&config.tls_cert, &config.tls_key) else {
-        return Ok(None);
-    };
-    let read = |flag: &str, path: &std::path::Path| {
-        std::fs::read(path).map_err(|e| ServeError::Tls(format!("{flag} {}: {e}", path.display())))
-    };
-    let identity = Identity::from_pem(read("--tls-cert", cert)?, read("--tls-key", key)?);
-    let mut tls = ServerTlsConfig::new().identity(identity);
-    if let Some(ca) = &config.client_ca {
-        tls = tls.client_ca_root(Certificate::from_pem(read("--client-ca", ca)?));
-    }
-    Ok(Some(tls))
 }
 
 /// Let the graceful drain run for at most `grace`: tonic waits for every open

@@ -8,34 +8,20 @@ client crate.
 
 import importlib
 import importlib.resources
-import json
-import os
-import queue
-import signal
-import subprocess
 import sys
-import threading
 from pathlib import Path
 
 import grpc
 import pytest
 
-REPO_ROOT = Path(os.environ.get("OXBIND_REPO_ROOT", Path(__file__).resolve().parents[2]))
-PROTO_DIR = REPO_ROOT / "proto"
-VECTORS_DIR = REPO_ROOT / "tests" / "vectors"
-SERVER_BIN = Path(
-    os.environ.get("OXBIND_SERVER_BIN", REPO_ROOT / "target" / "debug" / "oxbind-server")
-)
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "pyshared"))
 
-# Seconds the server may take to log that it is serving, and to exit on SIGTERM.
-STARTUP_TIMEOUT_S = 30.0
-SHUTDOWN_TIMEOUT_S = 15.0
-
-# The three v1 services, fully qualified (design.md).
-V1_SERVICES = (
-    "oxbind.v1.DissociationService",
-    "oxbind.v1.OxygenTransportService",
-    "oxbind.v1.ModelCatalogService",
+from oxbind_testing import (  # noqa: E402  (after the path is set)
+    PROTO_DIR,
+    STARTUP_TIMEOUT_S,
+    V1_SERVICES,
+    load_vectors,
+    server_process,
 )
 
 
@@ -92,50 +78,11 @@ def stubs(tmp_path_factory):
     return Stubs(modules)
 
 
-def _drain(stream, lines):
-    for line in stream:
-        lines.put(line)
-    lines.put(None)
-
-
 @pytest.fixture(scope="session")
 def server_address():
     """Start oxbind-server on 127.0.0.1:0 and yield host:port from its log."""
-    assert SERVER_BIN.is_file(), f"no server binary at {SERVER_BIN} (run tests/interop/run.sh)"
-    process = subprocess.Popen(
-        [str(SERVER_BIN), "--listen", "127.0.0.1:0", "--log-format", "json"],
-        stdout=subprocess.DEVNULL,
-        stderr=subprocess.PIPE,
-        text=True,
-    )
-    lines = queue.Queue()
-    threading.Thread(target=_drain, args=(process.stderr, lines), daemon=True).start()
-    address = None
-    seen = []
-    try:
-        while address is None:
-            try:
-                line = lines.get(timeout=STARTUP_TIMEOUT_S)
-            except queue.Empty:
-                pytest.fail(f"server did not log 'serving' within {STARTUP_TIMEOUT_S} s: {seen}")
-            if line is None:
-                pytest.fail(f"server exited with {process.wait()} before serving: {seen}")
-            seen.append(line.rstrip())
-            try:
-                event = json.loads(line)
-            except ValueError:
-                continue
-            if event.get("message") == "serving":
-                address = event["address"]
+    with server_process() as address:
         yield address
-    finally:
-        if process.poll() is None:
-            process.send_signal(signal.SIGTERM)
-            try:
-                process.wait(timeout=SHUTDOWN_TIMEOUT_S)
-            except subprocess.TimeoutExpired:
-                process.kill()
-                process.wait()
 
 
 @pytest.fixture(scope="session")
@@ -143,12 +90,3 @@ def channel(server_address):
     with grpc.insecure_channel(server_address) as ch:
         grpc.channel_ready_future(ch).result(timeout=STARTUP_TIMEOUT_S)
         yield ch
-
-
-def load_vectors():
-    """All vectors of tests/vectors/*.json, in file order."""
-    vectors = []
-    for path in sorted(VECTORS_DIR.glob("*.json")):
-        with path.open(encoding="utf-8") as handle:
-            vectors.extend(json.load(handle)["vectors"])
-    return vectors

@@ -9,44 +9,11 @@ whole-call INVALID_ARGUMENT refusal. Paths walk the response's JSON form:
 dotted lowerCamelCase names and [i] for list elements.
 """
 
-import re
-
 import grpc
 from google.protobuf import json_format
-from google.rpc import error_details_pb2
 from grpc_status import rpc_status
 
-# Numbers in "equals" and "contains" should agree exactly (enum names, limits).
-EXACT_NUMBER_TOLERANCE = 1e-12
-# Every refusal's ErrorInfo carries this domain (design.md, AIP-193).
-ERROR_DOMAIN = "oxbind.v1"
-_SEGMENT = re.compile(r"^([A-Za-z0-9_]+)((?:\[\d+\])*)$")
-
-
-def lookup(root, path):
-    """The value at a dotted path such as curves[0].points[3].po2, or KeyError."""
-    node = root
-    for segment in path.split("."):
-        match = _SEGMENT.match(segment)
-        if match is None:
-            raise ValueError(f"bad path segment {segment!r} in {path!r}")
-        node = node[match.group(1)]
-        for index in re.findall(r"\[(\d+)\]", match.group(2)):
-            node = node[int(index)]
-    return node
-
-
-def matches(actual, want):
-    """Whether actual has every key of want with an equal value."""
-    if isinstance(want, dict):
-        return isinstance(actual, dict) and all(
-            key in actual and matches(actual[key], value) for key, value in want.items()
-        )
-    if isinstance(want, bool) or isinstance(actual, bool):
-        return actual is want
-    if isinstance(want, (int, float)) and isinstance(actual, (int, float)):
-        return abs(actual - want) <= EXACT_NUMBER_TOLERANCE
-    return actual == want
+from oxbind_testing import ERROR_DOMAIN, bad_request_and_error_info, check_expectation
 
 
 def rpc_parts(rpc):
@@ -72,48 +39,6 @@ def call(stubs, channel, vector):
 
 def to_json(message):
     return json_format.MessageToDict(message, always_print_fields_with_no_presence=True)
-
-
-def bad_request_and_error_info(status):
-    """The BadRequest violations and (reason, domain) of a google.rpc.Status."""
-    violations, info = [], None
-    for detail in status.details:
-        if detail.Is(error_details_pb2.BadRequest.DESCRIPTOR):
-            bad = error_details_pb2.BadRequest()
-            detail.Unpack(bad)
-            violations.extend((v.field, v.reason) for v in bad.field_violations)
-        elif detail.Is(error_details_pb2.ErrorInfo.DESCRIPTOR):
-            error = error_details_pb2.ErrorInfo()
-            detail.Unpack(error)
-            info = (error.reason, error.domain)
-    return violations, info
-
-
-def check_expectation(name, response, expectation):
-    path = expectation["path"]
-    try:
-        actual = lookup(response, path)
-    except (KeyError, IndexError):
-        raise AssertionError(f"{name}: {path} is absent from the response {response}") from None
-    if "value" in expectation:
-        expected, tolerance = expectation["value"], expectation["tolerance"]
-        assert isinstance(actual, (int, float)) and not isinstance(actual, bool), (
-            f"{name}: {path} is not a number: {actual!r}"
-        )
-        assert abs(actual - expected) <= tolerance, (
-            f"{name}: {path} = {actual!r}, expected {expected} +/- {tolerance}"
-        )
-    elif "equals" in expectation:
-        assert matches(actual, expectation["equals"]), (
-            f"{name}: {path} = {actual!r}, expected {expectation['equals']!r}"
-        )
-    elif "contains" in expectation:
-        assert isinstance(actual, list), f"{name}: {path} is not a list"
-        assert any(matches(element, expectation["contains"]) for element in actual), (
-            f"{name}: no element of {path} matches {expectation['contains']}: {actual}"
-        )
-    else:
-        raise AssertionError(f"{name}: expectation on {path} has no value, equals or contains")
 
 
 def check_item_error(name, response_json, response, wanted):

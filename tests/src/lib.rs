@@ -1,5 +1,9 @@
 //! Test harness: start a real Oxbind server in-process on `127.0.0.1:0`, talk
-//! to it through the client crate, and stop it with a oneshot.
+//! to it through the client crate (or plain HTTP, [`http`]), and stop it with
+//! a oneshot.
+
+pub mod http;
+pub mod vectors;
 
 use std::{future::Future, net::SocketAddr, pin::Pin};
 
@@ -57,6 +61,11 @@ impl TestServer {
         }
     }
 
+    /// The server's address.
+    pub fn address(&self) -> SocketAddr {
+        self.address
+    }
+
     /// The `http://` URI of the server.
     pub fn uri(&self) -> String {
         format!("http://{}", self.address)
@@ -104,8 +113,8 @@ pub struct Refusal {
 pub fn decode_details(
     details: &[prost_types_any::Any],
 ) -> (Vec<Refusal>, Option<(String, String)>) {
+    use oxbind_proto::google::rpc as pb;
     use prost::Message;
-    use tonic_types::pb;
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {
@@ -132,12 +141,76 @@ pub fn refusal_of(status: &tonic::Status) -> (Vec<Refusal>, Option<(String, Stri
         tonic::Code::InvalidArgument,
         "expected INVALID_ARGUMENT, got {status:?}"
     );
-    let rpc =
-        tonic_types::pb::Status::decode(status.details()).expect("grpc-status-details-bin decodes");
+    let rpc = oxbind_proto::google::rpc::Status::decode(status.details())
+        .expect("grpc-status-details-bin decodes");
     decode_details(&rpc.details)
 }
 
 /// Re-export of the `Any` type used in `google.rpc.Status` details.
 pub mod prost_types_any {
-    pub use prost_types::Any;
+    pub use oxbind_proto::Any;
+}
+
+/// One unary gRPC call with the request and response as encoded bytes, to
+/// `path` (`/package.Service/Method`), through tonic's generic client: for
+/// tests that compare doors message by message.
+pub async fn grpc_unary_bytes(
+    channel: Channel,
+    path: &str,
+    request: Vec<u8>,
+) -> Result<Vec<u8>, tonic::Status> {
+    let mut grpc = tonic::client::Grpc::new(channel);
+    grpc.ready()
+        .await
+        .map_err(|e| tonic::Status::unavailable(e.to_string()))?;
+    let path = path.parse().expect("a gRPC path");
+    grpc.unary(tonic::Request::new(request), path, raw::RawCodec)
+        .await
+        .map(tonic::Response::into_inner)
+}
+
+/// A tonic codec that passes encoded messages through unchanged.
+mod raw {
+    use prost::bytes::{Buf, BufMut};
+    use tonic::{
+        codec::{Codec, DecodeBuf, Decoder, EncodeBuf, Encoder},
+        Status,
+    };
+
+    #[derive(Debug, Clone, Copy, Default)]
+    pub(crate) struct RawCodec;
+
+    impl Codec for RawCodec {
+        type Encode = Vec<u8>;
+        type Decode = Vec<u8>;
+        type Encoder = RawCodec;
+        type Decoder = RawCodec;
+
+        fn encoder(&mut self) -> Self::Encoder {
+            RawCodec
+        }
+
+        fn decoder(&mut self) -> Self::Decoder {
+            RawCodec
+        }
+    }
+
+    impl Encoder for RawCodec {
+        type Item = Vec<u8>;
+        type Error = Status;
+
+        fn encode(&mut self, item: Vec<u8>, dst: &mut EncodeBuf<'_>) -> Result<(), Status> {
+            dst.put_slice(&item);
+            Ok(())
+        }
+    }
+
+    impl Decoder for RawCodec {
+        type Item = Vec<u8>;
+        type Error = Status;
+
+        fn decode(&mut self, src: &mut DecodeBuf<'_>) -> Result<Option<Vec<u8>>, Status> {
+            Ok(Some(src.copy_to_bytes(src.remaining()).to_vec()))
+        }
+    }
 }

@@ -22,10 +22,10 @@ use oxbind_client::v1::{
     ProvenancePlacement, Quantity, ShiftDirection, ShiftFactor, Warning, WarningCode,
     WarningSeverity,
 };
+use oxbind_proto::google::rpc as pb;
 use oxbind_tests::{q, TestServer};
 use prost::Message;
 use tonic::transport::Channel;
-use tonic_types::pb;
 
 fn saturation_from_tension_example() -> SaturationFromTensionRequest {
     SaturationFromTensionRequest {
@@ -255,7 +255,7 @@ fn warnings_are(warnings: &[Warning], expected: &[(WarningCode, &str, WarningSev
 
 /// A refusal's BadRequest violations (field, reason, description) and its
 /// ErrorInfo.
-fn details(details: &[prost_types::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
+fn details(details: &[oxbind_proto::Any]) -> (Vec<(String, String, String)>, pb::ErrorInfo) {
     let mut violations = Vec::new();
     let mut info = None;
     for any in details {

@@ -131,7 +131,7 @@ fn assert_refusal_names_fields(
 
 /// A batch item's refusal: INVALID_ARGUMENT, every violation naming a field
 /// under `requests[index]`.
-fn assert_item_refusal(status: &tonic_types::pb::Status, index: usize) {
+fn assert_item_refusal(status: &oxbind_proto::google::rpc::Status, index: usize) {
     assert_eq!(
         status.code,
         tonic::Code::InvalidArgument as i32,

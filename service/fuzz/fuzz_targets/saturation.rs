@@ -11,7 +11,7 @@ use oxbind_proto::v1::{
     dissociation_service_server::DissociationService, saturation_from_tension_result,
     BatchSaturationFromTensionRequest, SaturationFromTensionRequest,
 };
-use oxbind_service::api::dissociation::{compute_saturation_from_tension, DissociationApi};
+use oxbind_service::{api::dissociation::compute_saturation_from_tension, grpc::DissociationApi};
 use prost::Message;
 
 fuzz_target!(|data: &[u8]| {

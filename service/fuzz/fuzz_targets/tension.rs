@@ -11,7 +11,7 @@ use oxbind_proto::v1::{
     dissociation_service_server::DissociationService, tension_from_saturation_result,
     BatchTensionFromSaturationRequest, TensionFromSaturationRequest,
 };
-use oxbind_service::api::dissociation::{compute_tension_from_saturation, DissociationApi};
+use oxbind_service::{api::dissociation::compute_tension_from_saturation, grpc::DissociationApi};
 use prost::Message;
 
 fuzz_target!(|data: &[u8]| {

@@ -26,7 +26,7 @@ use std::{
 
 use prost::Message;
 use prost_types::{field_descriptor_proto::Type, DescriptorProto, FileDescriptorSet};
-use tonic_types::pb;
+use oxbind_proto::google::rpc as pb;
 
 /// Full protobuf name (with leading dot) of the messages the targets check.
 pub mod names {
@@ -362,7 +362,7 @@ mod tests {
                     }),
                     defaulted: false,
                 }],
-                compute_time: Some(prost_types::Timestamp {
+                compute_time: Some(oxbind_proto::Timestamp {
                     seconds: 1,
                     nanos: 2,
                 }),

@@ -3,19 +3,11 @@
 //! uses.
 
 use oxbind_proto::v1::{
-    model_catalog_service_server::ModelCatalogService, GetServerSettingsRequest,
-    GetServerSettingsResponse, HillPreset, HillPresetDescription, InputLimit, ListModelsRequest,
-    ListModelsResponse, Model as WireModel, ModelDescription, Quantity, UnitSystem, ValidatedRange,
+    HillPreset, HillPresetDescription, InputLimit, ListModelsRequest, ListModelsResponse,
+    Model as WireModel, ModelDescription, Quantity, UnitSystem, ValidatedRange,
 };
-use tonic::{Request, Response, Status};
 
-use super::{
-    dissociation::shift_factor,
-    limits,
-    server_settings::{compute_get_server_settings, ReportedSettings},
-    units,
-};
-use crate::config::Config;
+use super::{dissociation::shift_factor, limits, units};
 use crate::physiology::{
     conditions::Condition,
     error::Input,
@@ -38,52 +30,6 @@ haemoglobin by educational sources; n 2.7 assumed (the adult value)";
 /// Source of the myoglobin Hill preset.
 const MYOGLOBIN_PRESET_SOURCE: &str = "n 1 (a single binding site: hyperbolic curve, common \
 practice); P50 2.8 mm[Hg] at 37 Cel from memory (about 2 Torr per Wikibooks Structural Biochemistry)";
-
-/// The model catalog RPCs.
-#[derive(Debug, Clone)]
-pub struct CatalogApi {
-    max_batch_items: usize,
-    settings: std::sync::Arc<ReportedSettings>,
-}
-
-impl CatalogApi {
-    /// A catalog that reports `max_batch_items` as the batch limit, and the
-    /// default configuration's settings.
-    pub fn new(max_batch_items: usize) -> Self {
-        Self::from_config(&Config {
-            max_batch_items,
-            ..Config::default()
-        })
-    }
-
-    /// A catalog that reports the limits and settings of `config`.
-    pub fn from_config(config: &Config) -> Self {
-        Self {
-            max_batch_items: config.max_batch_items,
-            settings: std::sync::Arc::new(ReportedSettings::from_config(config)),
-        }
-    }
-}
-
-#[tonic::async_trait]
-impl ModelCatalogService for CatalogApi {
-    async fn list_models(
-        &self,
-        _request: Request<ListModelsRequest>,
-    ) -> Result<Response<ListModelsResponse>, Status> {
-        Ok(Response::new(list_models(self.max_batch_items)))
-    }
-
-    async fn get_server_settings(
-        &self,
-        request: Request<GetServerSettingsRequest>,
-    ) -> Result<Response<GetServerSettingsResponse>, Status> {
-        Ok(Response::new(compute_get_server_settings(
-            request.get_ref(),
-            &self.settings,
-        )))
-    }
-}
 
 /// The wire enum value of a catalog model id.
 fn wire_model(id: &str) -> WireModel {
@@ -197,6 +143,15 @@ fn input_limit(limit: &limits::HardLimit) -> InputLimit {
         reason: limit.reason.to_owned(),
         error_reason: limit.error_reason.to_owned(),
     }
+}
+
+/// ListModels for one request (the request has no fields): the catalog with
+/// `max_batch_items` as the batch limit.
+pub fn compute_list_models(
+    _request: &ListModelsRequest,
+    max_batch_items: usize,
+) -> ListModelsResponse {
+    list_models(max_batch_items)
 }
 
 /// The catalog: every model and every hard input limit.

@@ -1,6 +1,10 @@
-//! The gRPC adapters: one per v1 service. Each handler converts the proto
-//! message into validated engine input, calls the physiology, and converts the
-//! result back. Refusals become statuses in one place, [`status`].
+//! The transport-neutral API: one module per v1 service family, one function
+//! per RPC. Each takes the request message, converts it into validated
+//! engine input, calls the physiology, and returns the response message or a
+//! refusal ([`status::InvalidRequest`]). No transport type appears here: the
+//! doors (gRPC in [`crate::grpc`], the Connect protocol in [`crate::http`])
+//! call these functions and put a refusal in their own shape, each in one
+//! place, from [`status`]'s `google.rpc.Status`.
 
 pub mod catalog;
 pub mod dissociation;

@@ -1,10 +1,14 @@
 //! What a call leaves in telemetry: the model used and the warning codes
 //! raised (never a clinical value), recorded on the call's span and metrics.
 
-use oxbind_proto::v1::{Provenance, Warning, WarningCode};
+use oxbind_proto::v1::{
+    CorrectForTemperatureResponse, Curve, EstimateP50Response, GasExchangeResponse,
+    OxygenContentResponse, Provenance, SampleCurveResponse, SaturationFromTensionResponse,
+    ShiftFactorsResponse, TensionFromSaturationResponse, Warning, WarningCode,
+};
 
 use super::status::InvalidRequest;
-use crate::{physiology::model::catalog, telemetry};
+use crate::{instruments, physiology::model::catalog};
 
 /// Record the model and the warnings of one computed result.
 pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
@@ -13,7 +17,7 @@ pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
         .and_then(|id| catalog().iter().find(|info| info.id == id))
         .map(|info| info.id)
     {
-        telemetry::record_model(id);
+        instruments::record_model(id);
     }
     if !warnings.is_empty() {
         let codes: Vec<&'static str> = warnings
@@ -24,7 +28,7 @@ pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
                     .as_str_name()
             })
             .collect();
-        telemetry::record_warnings(&codes);
+        instruments::record_warnings(&codes);
     }
 }
 
@@ -32,6 +36,40 @@ pub fn result(provenance: Option<&Provenance>, warnings: &[Warning]) {
 /// value).
 pub fn refused_item(refusal: &InvalidRequest) {
     for violation in refusal.violations() {
-        telemetry::record_refused_input(&violation.field);
+        instruments::record_refused_input(&violation.field);
+    }
+}
+
+/// A computed response that leaves its model and warnings in telemetry.
+pub trait Observed {
+    /// Record this response's model and warning codes.
+    fn observe(&self);
+}
+
+/// Responses with one provenance and one list of warnings.
+macro_rules! observed_by_provenance_and_warnings {
+    ($($response:ty),* $(,)?) => {
+        $(impl Observed for $response {
+            fn observe(&self) {
+                result(self.provenance.as_ref(), &self.warnings);
+            }
+        })*
+    };
+}
+
+observed_by_provenance_and_warnings!(
+    SaturationFromTensionResponse,
+    TensionFromSaturationResponse,
+    Curve,
+    ShiftFactorsResponse,
+    EstimateP50Response,
+    CorrectForTemperatureResponse,
+    OxygenContentResponse,
+    GasExchangeResponse,
+);
+
+impl Observed for SampleCurveResponse {
+    fn observe(&self) {
+        self.curves.iter().for_each(Observed::observe);
     }
 }

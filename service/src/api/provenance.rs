@@ -5,7 +5,10 @@ use std::time::SystemTime;
 
 use oxbind_proto::v1::{InputUsed, Provenance};
 
-use crate::{physiology::model::ModelInfo, BUILD_COMMIT, SERVICE_VERSION};
+use crate::{
+    identity::{BUILD_COMMIT, SERVICE_VERSION},
+    physiology::model::ModelInfo,
+};
 
 /// The API version of the contract.
 pub const API_VERSION: &str = "v1";
@@ -72,6 +75,6 @@ fn build(
         api_version: API_VERSION.to_owned(),
         inputs_used,
         within_validated_range,
-        compute_time: Some(prost_types::Timestamp::from(SystemTime::now())),
+        compute_time: Some(oxbind_proto::Timestamp::from(SystemTime::now())),
     }
 }

@@ -1,15 +1,18 @@
-//! The one place that turns refusals into gRPC statuses.
+//! Refusals, and the one place that turns them into `google.rpc.Status`.
 //!
 //! Every refused input becomes a `google.rpc.BadRequest` field violation with
 //! its dotted path, and the status carries one `google.rpc.ErrorInfo` in domain
 //! [`ERROR_DOMAIN`] whose reason is that of the first violation (AIP-193: one
-//! detail of each type). A single call sends that `google.rpc.Status` in the
-//! `grpc-status-details-bin` trailer; a batch item carries it in its result.
-//! Status messages name fields and limits, never the values received.
+//! detail of each type). A batch item carries that `google.rpc.Status` in its
+//! result. Each door sends a refused call's status in its own shape from
+//! [`InvalidRequest::to_rpc_status`]: gRPC in the `grpc-status-details-bin`
+//! trailer ([`InvalidRequest::into_status`]), Connect in its error JSON
+//! (`crate::http::connect`). Status messages name fields and limits, never
+//! the values received.
 
+use oxbind_proto::{google::rpc as pb, Any};
 use prost::Message;
 use tonic::{Code, Status};
-use tonic_types::pb;
 
 use super::{field_path::FieldPath, limits::HardLimit, units};
 use crate::physiology::error::PhysiologyError;
@@ -41,6 +44,10 @@ pub const REASON_BATCH_EMPTY: &str = "BATCH_EMPTY";
 pub const REASON_BATCH_TOO_LARGE: &str = "BATCH_TOO_LARGE";
 /// ErrorInfo reason: the engine refused a value outside its own range.
 pub const REASON_OUT_OF_RANGE: &str = "VALUE_OUT_OF_RANGE";
+/// ErrorInfo reason: a request body that is not a message of the RPC's
+/// request type in the encoding it names (a door that decodes the message
+/// itself, such as Connect, refuses with it).
+pub const REASON_NOT_DECODABLE: &str = "MESSAGE_NOT_DECODABLE";
 
 /// Every gRPC status code a call to this server can end with, and when.
 ///
@@ -191,6 +198,18 @@ impl Violation {
         Self {
             description: format!("{field}: {}", description.into()),
             reason,
+            metadata: Vec::new(),
+            field,
+        }
+    }
+
+    /// A request message that could not be decoded. `field` is the dotted
+    /// path where decoding stopped (empty when the message as a whole is
+    /// unreadable); `description` says why, without the value received.
+    pub fn not_decodable(field: String, description: impl Into<String>) -> Self {
+        Self {
+            description: description.into(),
+            reason: REASON_NOT_DECODABLE,
             metadata: Vec::new(),
             field,
         }
@@ -382,8 +401,8 @@ impl InvalidRequest {
             code: Code::InvalidArgument as i32,
             message: self.message(),
             details: vec![
-                any("google.rpc.BadRequest", &bad_request),
-                any("google.rpc.ErrorInfo", &error_info),
+                Any::pack(tonic_types::BadRequest::TYPE_URL, &bad_request),
+                Any::pack(tonic_types::ErrorInfo::TYPE_URL, &error_info),
             ],
         }
     }
@@ -405,22 +424,15 @@ impl From<InvalidRequest> for Status {
     }
 }
 
-fn any(type_name: &str, message: &impl Message) -> prost_types::Any {
-    prost_types::Any {
-        type_url: format!("type.googleapis.com/{type_name}"),
-        value: message.encode_to_vec(),
-    }
-}
-
 /// A refusal for a batch as a whole (empty, or over the item limit).
-pub fn batch_refusal(reason: &'static str, description: String, limit: usize) -> Status {
+pub fn batch_refusal(reason: &'static str, description: String, limit: usize) -> InvalidRequest {
     let violation = Violation {
         field: "requests".to_owned(),
         reason,
         description,
         metadata: vec![("max_items".to_owned(), limit.to_string())],
     };
-    InvalidRequest::one(violation).into_status()
+    InvalidRequest::one(violation)
 }
 
 #[cfg(test)]

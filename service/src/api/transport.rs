@@ -1,18 +1,18 @@
 //! `oxbind.v1.OxygenTransportService`: oxygen content, delivery and
-//! consumption, and gas-exchange indices.
+//! consumption, and gas-exchange indices; one transport-neutral function per
+//! RPC (see [`super::dissociation`] for the pattern).
 
 use oxbind_proto::v1::{
-    oxygen_transport_service_server::OxygenTransportService, AlveolarEquation, BloodSample,
-    GasExchangeRequest, GasExchangeResponse, InputUsed, OxygenContentRequest,
-    OxygenContentResponse, Quantity, SaturationKind as WireSaturationKind, Warning, WarningCode,
+    AlveolarEquation, BloodSample, GasExchangeRequest, GasExchangeResponse, InputUsed,
+    OxygenContentRequest, OxygenContentResponse, Quantity, SaturationKind as WireSaturationKind,
+    Warning, WarningCode,
 };
-use tonic::{Request, Response, Status};
 
 use super::{
     field_path::FieldPath,
     limits,
     model_choice::choose_model,
-    observe,
+    observe::Observed,
     provenance::{self, Method},
     reader::RequestReader,
     status::{InvalidRequest, Violation, REASON_INCONSISTENT, REASON_UNKNOWN_ENUM},
@@ -45,38 +45,6 @@ and oxygen saturation indices; PaO2 imputed from SpO2 by the nonlinear method of
 Chest 2016;150(2):307-313 (the Ellis 1989 inverse of Severinghaus 1979 Eq. 1)",
     doi: "10.1016/j.chest.2016.01.003",
 };
-
-/// The oxygen content and gas-exchange RPCs.
-#[derive(Debug, Clone, Default)]
-pub struct TransportApi;
-
-impl TransportApi {
-    /// A new handler.
-    pub fn new() -> Self {
-        Self
-    }
-}
-
-#[tonic::async_trait]
-impl OxygenTransportService for TransportApi {
-    async fn oxygen_content(
-        &self,
-        request: Request<OxygenContentRequest>,
-    ) -> Result<Response<OxygenContentResponse>, Status> {
-        let response = compute_oxygen_content(request.get_ref())?;
-        observe::result(response.provenance.as_ref(), &response.warnings);
-        Ok(Response::new(response))
-    }
-
-    async fn gas_exchange(
-        &self,
-        request: Request<GasExchangeRequest>,
-    ) -> Result<Response<GasExchangeResponse>, Status> {
-        let response = compute_gas_exchange(request.get_ref())?;
-        observe::result(response.provenance.as_ref(), &response.warnings);
-        Ok(Response::new(response))
-    }
-}
 
 /// A blood sample read from the request, with its saturation resolved.
 struct ReadSample {
@@ -281,6 +249,12 @@ fn engine_refusal(error: &PhysiologyError) -> InvalidRequest {
 pub fn compute_oxygen_content(
     request: &OxygenContentRequest,
 ) -> Result<OxygenContentResponse, InvalidRequest> {
+    oxygen_content_response(request).inspect(Observed::observe)
+}
+
+fn oxygen_content_response(
+    request: &OxygenContentRequest,
+) -> Result<OxygenContentResponse, InvalidRequest> {
     let root = FieldPath::ROOT;
     let mut reader = RequestReader::new(request.unit_system);
     let system = reader.system();
@@ -367,6 +341,12 @@ const SHUNT_PURPOSE: &str =
 
 /// GasExchange for one request.
 pub fn compute_gas_exchange(
+    request: &GasExchangeRequest,
+) -> Result<GasExchangeResponse, InvalidRequest> {
+    gas_exchange_response(request).inspect(Observed::observe)
+}
+
+fn gas_exchange_response(
     request: &GasExchangeRequest,
 ) -> Result<GasExchangeResponse, InvalidRequest> {
     let root = FieldPath::ROOT;

@@ -35,7 +35,7 @@ use tower::{Layer, Service};
 use tracing::{field::Empty, Instrument, Span};
 use tracing_opentelemetry::OpenTelemetrySpanExt;
 
-use crate::telemetry::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
+use crate::instruments::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
 
 /// Metadata key of the request id, read from the request and echoed back.
 pub const REQUEST_ID_HEADER: &str = "x-request-id";
@@ -138,6 +138,7 @@ where
         let method = method_name(path);
         let is_health = path.starts_with(HEALTH_PATH_PREFIX);
         let request_id = request_id_of(request.headers());
+        let system = rpc_system(request.headers());
         let timeout = parse_grpc_timeout(request.headers()).map_or(self.shared.call_timeout, |t| {
             t.min(self.shared.call_timeout)
         });
@@ -152,7 +153,7 @@ where
                 "grpc.call",
                 otel.name = method,
                 otel.kind = "server",
-                rpc.system.name = "grpc",
+                rpc.system.name = system,
                 rpc.method = method,
                 rpc.status_code = Empty,
                 request_id = %request_id,
@@ -160,7 +161,7 @@ where
                 oxbind.warning_codes = Empty,
             )
         };
-        let trace_id = if telemetry::traces_exported() && !span.is_none() {
+        let trace_id = if instruments::traces_exported() && !span.is_none() {
             let _ = span.set_parent(parent);
             span.context().span().span_context().trace_id()
         } else {
@@ -176,6 +177,7 @@ where
                     let record = CallRecord {
                         start,
                         method,
+                        system,
                         request_id,
                         trace_id,
                         span,
@@ -194,6 +196,7 @@ where
         let mut record = CallRecord {
             start,
             method,
+            system,
             request_id,
             trace_id,
             span: span.clone(),
@@ -229,6 +232,7 @@ where
 struct CallRecord {
     start: Instant,
     method: &'static str,
+    system: &'static str,
     request_id: String,
     trace_id: TraceId,
     span: Span,
@@ -271,11 +275,11 @@ impl Drop for CallRecord {
             self.span.set_attribute("error.type", name);
         }
         let attributes = [
-            KeyValue::new("rpc.system.name", "grpc"),
+            KeyValue::new("rpc.system.name", self.system),
             KeyValue::new("rpc.method", self.method),
             KeyValue::new("rpc.status_code", name),
         ];
-        let instruments = telemetry::instruments();
+        let instruments = instruments::instruments();
         instruments
             .call_duration
             .record(elapsed.as_secs_f64(), &attributes);
@@ -413,7 +417,7 @@ fn count_refused_fields(headers: &HeaderMap) {
     {
         if let Ok(bad) = tonic_types::pb::BadRequest::decode(detail.value.as_slice()) {
             for violation in &bad.field_violations {
-                telemetry::record_refused_input(&violation.field);
+                instruments::record_refused_input(&violation.field);
             }
         }
     }
@@ -428,6 +432,21 @@ pub fn method_name(path: &str) -> &'static str {
         .find(|known| **known == path)
         .copied()
         .unwrap_or(OTHER_METHOD)
+}
+
+/// `rpc.system.name` of a call (OpenTelemetry RPC semantic conventions):
+/// `grpc` for gRPC and grpc-web, `connect_rpc` for the Connect protocol
+/// (the only other door this layer wraps).
+pub fn rpc_system(headers: &HeaderMap) -> &'static str {
+    let grpc = headers
+        .get(http::header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok())
+        .is_some_and(|t| t.starts_with("application/grpc"));
+    if grpc {
+        "grpc"
+    } else {
+        "connect_rpc"
+    }
 }
 
 /// The caller's request id if it is short and made only of letters, digits
@@ -558,6 +577,23 @@ mod tests {
         map.insert("x-request-id", HeaderValue::from_str(&long).unwrap());
         assert_eq!(request_id_of(&map).len(), 36);
         assert_eq!(request_id_of(&HeaderMap::new()).len(), 36);
+    }
+
+    #[test]
+    fn grpc_and_grpc_web_calls_are_grpc_and_the_rest_connect() {
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/grpc")])),
+            "grpc"
+        );
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/grpc-web+proto")])),
+            "grpc"
+        );
+        assert_eq!(
+            rpc_system(&headers(&[("content-type", "application/json")])),
+            "connect_rpc"
+        );
+        assert_eq!(rpc_system(&HeaderMap::new()), "connect_rpc");
     }
 
     #[test]

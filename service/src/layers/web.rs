@@ -1,6 +1,7 @@
 //! grpc-web for browsers (the `tonic-web` layer) and the CORS policy in front
-//! of it (`tower-http`): only the configured origins may call, only with
-//! POST, and only the gRPC headers pass.
+//! of it and of the Connect protocol (`tower-http`): only the configured
+//! origins may call, only with POST (and GET, Connect's form for calls
+//! without side effects), and only the gRPC and Connect headers pass.
 
 use std::time::Duration;
 
@@ -10,12 +11,15 @@ use tower_http::cors::{AllowOrigin, CorsLayer};
 /// How long a browser may cache a preflight answer.
 pub const PREFLIGHT_MAX_AGE: Duration = Duration::from_secs(3600);
 
-/// Request headers a grpc-web caller may send.
-const ALLOWED_HEADERS: [&str; 8] = [
+/// Request headers a grpc-web or Connect caller may send (Connect's from
+/// <https://connectrpc.com/docs/cors>).
+const ALLOWED_HEADERS: [&str; 10] = [
     "content-type",
     "x-grpc-web",
     "x-user-agent",
     "grpc-timeout",
+    "connect-protocol-version",
+    "connect-timeout-ms",
     "x-request-id",
     "traceparent",
     "tracestate",
@@ -39,7 +43,7 @@ pub fn cors_layer(origins: &[String]) -> CorsLayer {
         .collect();
     CorsLayer::new()
         .allow_origin(AllowOrigin::list(origins))
-        .allow_methods([Method::POST, Method::OPTIONS])
+        .allow_methods([Method::POST, Method::GET, Method::OPTIONS])
         .allow_headers(ALLOWED_HEADERS.map(HeaderName::from_static))
         .expose_headers(EXPOSED_HEADERS.map(HeaderName::from_static))
         .max_age(PREFLIGHT_MAX_AGE)

@@ -271,7 +271,7 @@ mod tests {
     #[test]
     fn a_batch_answer_is_counted_item_by_item() {
         let refused = SaturationFromTensionResult {
-            result: Some(Outcome::Error(tonic_types::pb::Status {
+            result: Some(Outcome::Error(oxbind_proto::google::rpc::Status {
                 code: Code::InvalidArgument as i32,
                 message: "po2.value: outside".into(),
                 details: vec![],

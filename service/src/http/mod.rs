@@ -1,0 +1,419 @@
+//! The doors beside gRPC on the main listener, and the dispatch in front of
+//! every route.
+//!
+//! [`DispatchLayer`] sits in front of the gRPC routes (see `server.rs`) and
+//! sends each request to one door, by path, method and content type
+//! ([`door_for`]):
+//!
+//! | request | door |
+//! | --- | --- |
+//! | `content-type: application/grpc*` over HTTP/2 | on to the gRPC stack |
+//! | `content-type: application/grpc*` over HTTP/1.1 | refused here: 505 (gRPC needs HTTP/2) |
+//! | `content-type: application/grpc-web*` | on to the gRPC stack with `--grpc-web`, else refused: 415 |
+//! | `POST` with `application/json` or `application/proto` | the Connect protocol ([`connect`]) |
+//! | `GET /oxbind.v1.*` (or any `GET` with Connect's `encoding` query) | Connect's GET form |
+//! | anything else for a `/oxbind.v1.` path | refused here: 415, or 405 for a method other than GET and POST |
+//! | anything else | on to the gRPC stack (which answers or refuses it) |
+//!
+//! Only gRPC and grpc-web requests (and requests for no door at all) reach
+//! the gRPC stack, so a gRPC-only strictness layer can sit behind this one.
+//! The FHIR door (issue 12) joins here as one more row: a `/fhir/r4/` path
+//! prefix, checked before the content types.
+
+pub mod connect;
+
+use std::{
+    convert::Infallible,
+    future::Future,
+    pin::Pin,
+    task::{Context, Poll},
+};
+
+use http::{header, HeaderMap, HeaderValue, Method, Request, Response, StatusCode, Version};
+use tonic::body::Body;
+use tower::{Layer, Service, ServiceExt};
+
+use self::connect::Codec;
+
+/// Path prefix of every v1 procedure (`/oxbind.v1.<Service>/<Method>`).
+pub const V1_PATH_PREFIX: &str = "/oxbind.v1.";
+
+/// The content types the listener serves, as a 415 lists them.
+pub const ACCEPTED_CONTENT_TYPES: &str =
+    "application/json, application/proto, application/grpc, application/grpc+proto";
+
+/// The methods a v1 path answers, as a 405 lists them.
+pub const ALLOWED_METHODS: &str = "GET, POST";
+
+/// Where a request goes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Door {
+    /// On to the gRPC stack (gRPC, grpc-web, or no door at all).
+    Grpc,
+    /// The Connect protocol.
+    Connect,
+    /// Refused here, with this HTTP status.
+    Refuse(StatusCode),
+}
+
+/// What the dispatch knows of the request: its method, HTTP version, path,
+/// query and headers.
+#[derive(Debug, Clone, Copy)]
+pub struct RequestHead<'a> {
+    /// The method.
+    pub method: &'a Method,
+    /// The HTTP version.
+    pub version: Version,
+    /// The path.
+    pub path: &'a str,
+    /// The query, if any.
+    pub query: Option<&'a str>,
+    /// The headers.
+    pub headers: &'a HeaderMap,
+}
+
+impl<'a, B> From<&'a Request<B>> for RequestHead<'a> {
+    fn from(request: &'a Request<B>) -> Self {
+        Self {
+            method: request.method(),
+            version: request.version(),
+            path: request.uri().path(),
+            query: request.uri().query(),
+            headers: request.headers(),
+        }
+    }
+}
+
+/// The door for a request, when grpc-web is served (`grpc_web`) or not.
+pub fn door_for(head: RequestHead<'_>, grpc_web: bool) -> Door {
+    let RequestHead {
+        method,
+        version,
+        path,
+        query,
+        headers,
+    } = head;
+    let content_type = headers
+        .get(header::CONTENT_TYPE)
+        .and_then(|v| v.to_str().ok());
+    if let Some(content_type) = content_type.filter(|t| t.starts_with("application/grpc")) {
+        let web = content_type.starts_with("application/grpc-web");
+        return match (web, grpc_web) {
+            // grpc-web without --grpc-web: a content type not served.
+            (true, false) => Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE),
+            (true, true) => Door::Grpc,
+            // gRPC is HTTP/2 only; the listener speaks HTTP/1.1 for the
+            // other doors.
+            (false, _) if version < Version::HTTP_2 => {
+                Door::Refuse(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
+            }
+            (false, _) => Door::Grpc,
+        };
+    }
+    let v1 = path.starts_with(V1_PATH_PREFIX);
+    if method == Method::POST {
+        return match content_type.map(Codec::from_content_type) {
+            Some(Some(_)) => Door::Connect,
+            _ if v1 => Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE),
+            _ => Door::Grpc,
+        };
+    }
+    if method == Method::GET {
+        return match connect::get_encoding(query) {
+            // Connect's GET form names its codec; an unknown one is a 415.
+            Some(Some(_)) => Door::Connect,
+            Some(None) => Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE),
+            // A GET of a v1 path without the query: Connect says what is
+            // missing.
+            None if v1 => Door::Connect,
+            None => Door::Grpc,
+        };
+    }
+    if v1 {
+        Door::Refuse(StatusCode::METHOD_NOT_ALLOWED)
+    } else {
+        Door::Grpc
+    }
+}
+
+/// The answer to a request refused by the dispatch: the status, the header
+/// naming what is accepted (if any), and one plain sentence.
+fn refusal(status: StatusCode) -> Response<Body> {
+    let (accepted, text) = match status {
+        StatusCode::METHOD_NOT_ALLOWED => (
+            Some((header::ALLOW, ALLOWED_METHODS)),
+            "this path answers GET and POST only\n",
+        ),
+        StatusCode::HTTP_VERSION_NOT_SUPPORTED => (
+            None,
+            "gRPC needs HTTP/2; over HTTP/1.1 use the Connect protocol (application/json or application/proto)\n",
+        ),
+        _ => (
+            Some((header::HeaderName::from_static("accept-post"), ACCEPTED_CONTENT_TYPES)),
+            "content type not served at this path: send application/json or application/proto \
+(the Connect protocol; GET with ?encoding=json or proto) or application/grpc\n",
+        ),
+    };
+    let mut response = Response::new(Body::new(http_body_util::Full::new(
+        tonic::codegen::Bytes::from_static(text.as_bytes()),
+    )));
+    *response.status_mut() = status;
+    let headers = response.headers_mut();
+    if let Some((name, value)) = accepted {
+        headers.insert(name, HeaderValue::from_static(value));
+    }
+    headers.insert(
+        header::CONTENT_TYPE,
+        HeaderValue::from_static("text/plain; charset=utf-8"),
+    );
+    response
+}
+
+/// The layer that puts the dispatch in front of the gRPC stack.
+#[derive(Debug, Clone)]
+pub struct DispatchLayer<C> {
+    connect: C,
+    grpc_web: bool,
+}
+
+impl<C> DispatchLayer<C> {
+    /// Send Connect requests to `connect` (the Connect door, with its own
+    /// per-call layer); gRPC (and grpc-web when `grpc_web` is served) go to
+    /// the wrapped service.
+    pub fn new(connect: C, grpc_web: bool) -> Self {
+        Self { connect, grpc_web }
+    }
+}
+
+impl<S, C: Clone> Layer<S> for DispatchLayer<C> {
+    type Service = Dispatch<S, C>;
+
+    fn layer(&self, grpc: S) -> Self::Service {
+        Dispatch {
+            grpc,
+            connect: self.connect.clone(),
+            grpc_web: self.grpc_web,
+        }
+    }
+}
+
+/// The service [`DispatchLayer`] makes.
+#[derive(Debug, Clone)]
+pub struct Dispatch<S, C> {
+    grpc: S,
+    connect: C,
+    grpc_web: bool,
+}
+
+impl<S, C> Service<Request<Body>> for Dispatch<S, C>
+where
+    S: Service<Request<Body>, Response = Response<Body>> + Clone + Send + 'static,
+    S::Future: Send + 'static,
+    S::Error: Send + 'static,
+    C: Service<Request<Body>, Response = Response<Body>, Error = Infallible>
+        + Clone
+        + Send
+        + 'static,
+    C::Future: Send + 'static,
+{
+    type Response = Response<Body>;
+    type Error = S::Error;
+    type Future = Pin<Box<dyn Future<Output = Result<Response<Body>, S::Error>> + Send>>;
+
+    fn poll_ready(&mut self, cx: &mut Context<'_>) -> Poll<Result<(), Self::Error>> {
+        self.grpc.poll_ready(cx)
+    }
+
+    fn call(&mut self, request: Request<Body>) -> Self::Future {
+        let door = door_for(RequestHead::from(&request), self.grpc_web);
+        match door {
+            Door::Grpc => {
+                // Take the service that was driven to readiness; leave a clone.
+                let clone = self.grpc.clone();
+                let mut grpc = std::mem::replace(&mut self.grpc, clone);
+                Box::pin(grpc.call(request))
+            }
+            Door::Connect => {
+                let connect = self.connect.clone();
+                Box::pin(async move {
+                    match connect.oneshot(request).await {
+                        Ok(response) => Ok(response),
+                        Err(never) => match never {},
+                    }
+                })
+            }
+            Door::Refuse(status) => {
+                tracing::debug!(
+                    method = %request.method(),
+                    status = status.as_u16(),
+                    "request refused by the dispatch"
+                );
+                Box::pin(std::future::ready(Ok(refusal(status))))
+            }
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn door(method: Method, target: &str, content_type: Option<&'static str>) -> Door {
+        door_over(Version::HTTP_2, true, method, target, content_type)
+    }
+
+    fn door_over(
+        version: Version,
+        grpc_web: bool,
+        method: Method,
+        target: &str,
+        content_type: Option<&'static str>,
+    ) -> Door {
+        let mut request = Request::builder()
+            .method(method)
+            .uri(target)
+            .version(version);
+        if let Some(value) = content_type {
+            request = request.header(header::CONTENT_TYPE, value);
+        }
+        let request = request.body(()).unwrap();
+        door_for(RequestHead::from(&request), grpc_web)
+    }
+
+    const SATURATION: &str = "/oxbind.v1.DissociationService/SaturationFromTension";
+
+    #[test]
+    fn grpc_and_grpc_web_go_on_to_the_grpc_stack_whatever_the_path() {
+        for content_type in [
+            "application/grpc",
+            "application/grpc+proto",
+            "application/grpc-web",
+            "application/grpc-web-text",
+        ] {
+            assert_eq!(
+                door(Method::POST, SATURATION, Some(content_type)),
+                Door::Grpc
+            );
+            assert_eq!(
+                door(
+                    Method::POST,
+                    "/grpc.health.v1.Health/Check",
+                    Some(content_type)
+                ),
+                Door::Grpc
+            );
+        }
+    }
+
+    #[test]
+    fn grpc_web_without_the_flag_and_grpc_over_http1_are_refused() {
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                false,
+                Method::POST,
+                SATURATION,
+                Some("application/grpc-web+proto")
+            ),
+            Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE)
+        );
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                true,
+                Method::POST,
+                SATURATION,
+                Some("application/grpc-web+proto")
+            ),
+            Door::Grpc
+        );
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                true,
+                Method::POST,
+                SATURATION,
+                Some("application/grpc")
+            ),
+            Door::Refuse(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
+        );
+        // Connect over HTTP/1.1 is served with or without grpc-web.
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                false,
+                Method::POST,
+                SATURATION,
+                Some("application/json")
+            ),
+            Door::Connect
+        );
+    }
+
+    #[test]
+    fn connect_content_types_and_get_forms_go_to_connect() {
+        for content_type in [
+            "application/json",
+            "application/json; charset=utf-8",
+            "application/proto",
+        ] {
+            assert_eq!(
+                door(Method::POST, SATURATION, Some(content_type)),
+                Door::Connect
+            );
+        }
+        let get = format!("{SATURATION}?encoding=json&message=%7B%7D");
+        assert_eq!(door(Method::GET, &get, None), Door::Connect);
+        // A GET of a v1 path without the query: Connect explains.
+        assert_eq!(door(Method::GET, SATURATION, None), Door::Connect);
+        // Connect for a path it does not serve answers "unimplemented".
+        assert_eq!(
+            door(
+                Method::POST,
+                "/grpc.health.v1.Health/Check",
+                Some("application/json")
+            ),
+            Door::Connect
+        );
+    }
+
+    #[test]
+    fn anything_else_for_a_v1_path_is_refused() {
+        for content_type in [
+            None,
+            Some("text/plain"),
+            Some("application/connect+json"),
+            Some("application/xml"),
+        ] {
+            assert_eq!(
+                door(Method::POST, SATURATION, content_type),
+                Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE),
+                "{content_type:?}"
+            );
+        }
+        let get = format!("{SATURATION}?encoding=xml&message=x");
+        assert_eq!(
+            door(Method::GET, &get, None),
+            Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE)
+        );
+        for method in [Method::PUT, Method::DELETE, Method::PATCH, Method::OPTIONS] {
+            assert_eq!(
+                door(method, SATURATION, Some("application/json")),
+                Door::Refuse(StatusCode::METHOD_NOT_ALLOWED)
+            );
+        }
+    }
+
+    #[test]
+    fn other_paths_without_a_connect_content_type_go_on_to_the_grpc_stack() {
+        assert_eq!(
+            door(Method::POST, "/grpc.health.v1.Health/Check", None),
+            Door::Grpc
+        );
+        assert_eq!(door(Method::GET, "/", None), Door::Grpc);
+        assert_eq!(
+            door(Method::PUT, "/anything", Some("text/plain")),
+            Door::Grpc
+        );
+    }
+}
