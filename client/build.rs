@@ -68,7 +68,10 @@ fn main() {
         build_commit()
     ));
     let out = PathBuf::from(env::var("OUT_DIR").expect("OUT_DIR")).join("verify_sources.rs");
-    fs::write(&out, generated).unwrap_or_else(|e| panic!("write {}: {e}", out.display()));
+    // Unchanged text is not written again, so the binary is not rebuilt.
+    if fs::read_to_string(&out).ok().as_deref() != Some(generated.as_str()) {
+        fs::write(&out, generated).unwrap_or_else(|e| panic!("write {}: {e}", out.display()));
+    }
 }
 
 /// One `EmbeddedFile { path, text }` line for `file`.
@@ -102,7 +105,9 @@ fn build_commit() -> String {
         } else {
             git(&["symbolic-ref", "-q", "HEAD"]).and_then(|r| git(&["rev-parse", "--git-path", &r]))
         };
-        if let Some(file) = asked {
+        // A branch kept in packed-refs has no file of its own; naming a
+        // missing file would run this script on every build.
+        if let Some(file) = asked.filter(|f| Path::new(f).exists()) {
             println!("cargo:rerun-if-changed={file}");
         }
     }

@@ -101,6 +101,13 @@ async fn every_case_passes_against_the_service_and_two_runs_are_byte_identical()
     assert_eq!(report["server"]["identitySource"], "GetServerSettings");
     assert_eq!(report["settings"]["reported"], true);
     assert_eq!(report["asOf"], AS_OF);
+    // The in-process server answers on gRPC and Connect alike; every case
+    // runs through both.
+    let surfaces = report["surfaces"].as_array().unwrap();
+    let door = |key: &str| surfaces.iter().find(|s| s["key"] == key).unwrap();
+    assert_eq!(door("grpc")["answered"], true);
+    assert_eq!(door("connect-json")["answered"], true);
+    assert_eq!(door("connect-json")["cases"], door("grpc")["cases"]);
     assert_eq!(report["reverification"]["dueBy"], "2027-06-03");
     let families: BTreeSet<&str> = report["cases"]
         .as_array()

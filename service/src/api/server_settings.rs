@@ -146,7 +146,7 @@ impl ReportedSettings {
             (
                 "cors-allowed-origins",
                 list(&config.cors_allowed_origins),
-                "origins a browser may call from with grpc-web",
+                "origins a browser may call from, with grpc-web or the Connect protocol",
             ),
         ];
         Self {

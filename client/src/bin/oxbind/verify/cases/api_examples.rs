@@ -1,15 +1,17 @@
 //! Cases from the worked examples of the API reference (`proto/API.md`
 //! section 7): each `Request:` JSON block with the `Response:` block that
 //! follows it. Every number printed in the response is checked to the
-//! document's stated precision (4 to 6 significant figures, so within half
-//! a unit of the 4th), and every printed code, unit, identifier and flag
+//! precision printed (within half a unit of its last digit, as the document
+//! says of itself), and every printed code, unit, identifier and flag
 //! exactly; placeholders (`…`, the compute time, service version and build
 //! commit) and free-text messages, which the contract says not to parse,
 //! are not checked. The values were recorded from the service when the
 //! document was written: these cases show that the deployment answers as
 //! its integrators were told, and are not an independent source.
 
-use serde_json::Value;
+use std::collections::BTreeMap;
+
+use serde_json::{value::RawValue, Value};
 
 use crate::verify::{
     case::{file_name, Case, CaseSet, Check, Expect, Family, NotRun, Want},
@@ -28,8 +30,8 @@ const NOT_CHECKED: [&str; 5] = [
 /// The mark of an abridged value.
 const ELLIPSIS: char = '…';
 
-/// Significant figures every printed number has at least.
-const PRINTED_SIGNIFICANT_FIGURES: i32 = 4;
+/// Significant figures a number printed in exponent form is read to.
+const EXPONENT_SIGNIFICANT_FIGURES: i32 = 4;
 
 /// One fenced JSON block and the label line before it.
 struct Block {
@@ -126,10 +128,10 @@ fn case(file: &EmbeddedFile, request: &Block, response: &Block) -> Result<Case, 
         .ok_or_else(|| format!("section {} names no method", request.section))?;
     let parsed_request: Value = serde_json::from_str(&request.text)
         .map_err(|e| format!("the request block is not JSON: {e}"))?;
-    let parsed_response: Value = serde_json::from_str(&response.text)
+    let raw: &RawValue = serde_json::from_str(&response.text)
         .map_err(|e| format!("the response block is not JSON: {e}"))?;
     let mut checks = Vec::new();
-    leaves(&parsed_response, "", &mut checks);
+    leaves(raw, "", &mut checks)?;
     if checks.is_empty() {
         return Err("the response block shows nothing to check".to_owned());
     }
@@ -150,63 +152,73 @@ fn case(file: &EmbeddedFile, request: &Block, response: &Block) -> Result<Case, 
         },
         source: format!(
             "proto/API.md section {}, the worked example on line {} (values recorded from the \
-             service when the document was written; numbers to their printed precision)",
+             service when the document was written; each number within half a unit of its last \
+             printed digit)",
             request.section, response.line
         ),
         note: None,
     })
 }
 
-/// A check for every printed leaf of `value` under `path`.
-fn leaves(value: &Value, path: &str, checks: &mut Vec<Check>) {
-    match value {
-        Value::Object(map) => {
-            for (key, child) in map {
-                if key.contains(ELLIPSIS) || NOT_CHECKED.contains(&key.as_str()) {
-                    continue;
-                }
-                let child_path = if path.is_empty() {
-                    key.clone()
-                } else {
-                    format!("{path}.{key}")
-                };
-                leaves(child, &child_path, checks);
+/// A check for every printed leaf of `raw` (JSON text) under `path`.
+fn leaves(raw: &RawValue, path: &str, checks: &mut Vec<Check>) -> Result<(), String> {
+    let text = raw.get().trim();
+    let bad = |e: serde_json::Error| format!("{path}: {e}");
+    if text.starts_with('{') {
+        let map: BTreeMap<String, &RawValue> = serde_json::from_str(text).map_err(bad)?;
+        for (key, child) in map {
+            if key.contains(ELLIPSIS) || NOT_CHECKED.contains(&key.as_str()) {
+                continue;
             }
+            let child_path = if path.is_empty() {
+                key
+            } else {
+                format!("{path}.{key}")
+            };
+            leaves(child, &child_path, checks)?;
         }
-        Value::Array(items) => {
-            // Elements after an abridged one may not be where they are shown.
-            for (i, item) in items.iter().enumerate() {
-                if item.as_str().is_some_and(|s| s.contains(ELLIPSIS)) {
-                    break;
-                }
-                leaves(item, &format!("{path}[{i}]"), checks);
+    } else if text.starts_with('[') {
+        let items: Vec<&RawValue> = serde_json::from_str(text).map_err(bad)?;
+        // Elements after an abridged one may not be where they are shown.
+        for (i, item) in items.into_iter().enumerate() {
+            if item.get().contains(ELLIPSIS) && item.get().trim().starts_with('"') {
+                break;
             }
+            leaves(item, &format!("{path}[{i}]"), checks)?;
         }
-        Value::String(text) if text.contains(ELLIPSIS) || text.starts_with('<') => {}
-        Value::Number(number) => {
-            let value = number.as_f64().unwrap_or(f64::NAN);
-            checks.push(Check {
+    } else {
+        let value: Value = serde_json::from_str(text).map_err(bad)?;
+        match value {
+            Value::String(s) if s.contains(ELLIPSIS) || s.starts_with('<') => {}
+            Value::Number(number) => checks.push(Check {
                 path: path.to_owned(),
                 want: Want::Number {
-                    value,
-                    tolerance: printed_tolerance(value),
+                    value: number.as_f64().unwrap_or(f64::NAN),
+                    tolerance: printed_tolerance(text),
                 },
-            });
+            }),
+            other => checks.push(Check {
+                path: path.to_owned(),
+                want: Want::Equals(other),
+            }),
         }
-        other => checks.push(Check {
-            path: path.to_owned(),
-            want: Want::Equals(other.clone()),
-        }),
     }
+    Ok(())
 }
 
-/// Half a unit in the 4th significant figure of `value` (0 for 0).
-fn printed_tolerance(value: f64) -> f64 {
-    if value == 0.0 || !value.is_finite() {
-        return 0.0;
+/// Half a unit in the last printed digit of the number `text`; for a number
+/// in exponent form, half a unit in its 4th significant figure.
+fn printed_tolerance(text: &str) -> f64 {
+    if text.contains(['e', 'E']) {
+        let value: f64 = text.parse().unwrap_or(0.0);
+        if value == 0.0 || !value.is_finite() {
+            return 0.0;
+        }
+        let magnitude = value.abs().log10().floor() as i32;
+        return 0.5 * 10f64.powi(magnitude - (EXPONENT_SIGNIFICANT_FIGURES - 1));
     }
-    let magnitude = value.abs().log10().floor() as i32;
-    0.5 * 10f64.powi(magnitude - (PRINTED_SIGNIFICANT_FIGURES - 1))
+    let decimals = text.split_once('.').map_or(0, |(_, d)| d.len()) as i32;
+    0.5 * 10f64.powi(-decimals)
 }
 
 #[cfg(test)]
@@ -215,11 +227,12 @@ mod tests {
     use crate::verify::sources::API_REFERENCE_FILE;
 
     #[test]
-    fn printed_precision_is_half_a_unit_in_the_fourth_figure() {
-        assert!((printed_tolerance(33.202) - 0.005).abs() < 1e-15);
-        assert!((printed_tolerance(0.85577) - 0.00005).abs() < 1e-15);
-        assert!((printed_tolerance(241.46) - 0.05).abs() < 1e-12);
-        assert_eq!(printed_tolerance(0.0), 0.0);
+    fn printed_precision_is_half_a_unit_in_the_last_digit() {
+        assert!((printed_tolerance("33.202") - 0.0005).abs() < 1e-15);
+        assert!((printed_tolerance("0.85577") - 0.000005).abs() < 1e-15);
+        assert!((printed_tolerance("180.00") - 0.005).abs() < 1e-15);
+        assert!((printed_tolerance("62") - 0.5).abs() < 1e-15);
+        assert!((printed_tolerance("1.25e-3") - 5e-7).abs() < 1e-18);
     }
 
     #[test]
