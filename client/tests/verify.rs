@@ -437,3 +437,96 @@ async fn the_html_report_prints_to_pdf_and_renders_to_png_in_headless_chromium()
         }
     }
 }
+
+/// A certificate authority made for one test (rcgen).
+struct Authority {
+    issuer: rcgen::CertifiedIssuer<'static, rcgen::KeyPair>,
+}
+
+impl Authority {
+    fn new(name: &str) -> Self {
+        use rcgen::{BasicConstraints, CertificateParams, DnType, IsCa, KeyPair};
+        let mut params = CertificateParams::new(Vec::<String>::new()).unwrap();
+        params.is_ca = IsCa::Ca(BasicConstraints::Unconstrained);
+        params.distinguished_name.push(DnType::CommonName, name);
+        let issuer =
+            rcgen::CertifiedIssuer::self_signed(params, KeyPair::generate().unwrap()).unwrap();
+        Self { issuer }
+    }
+
+    /// A leaf certificate and key (PEM) for `name`.
+    fn leaf(&self, name: &str, purpose: rcgen::ExtendedKeyUsagePurpose) -> (String, String) {
+        use rcgen::{CertificateParams, DnType, KeyPair};
+        let mut params = CertificateParams::new(vec![name.to_owned()]).unwrap();
+        params.distinguished_name.push(DnType::CommonName, name);
+        params.extended_key_usages = vec![purpose];
+        let key = KeyPair::generate().unwrap();
+        let cert = params.signed_by(&key, &self.issuer).unwrap();
+        (cert.pem(), key.serialize_pem())
+    }
+}
+
+#[tokio::test(flavor = "multi_thread", worker_threads = 2)]
+async fn verify_speaks_mutual_tls_on_every_door_with_the_tls_flags() {
+    use rcgen::ExtendedKeyUsagePurpose::{ClientAuth, ServerAuth};
+    let dir = tempfile::tempdir().unwrap();
+    let write = |name: &str, text: &str| {
+        let path = dir.path().join(name);
+        std::fs::write(&path, text).unwrap();
+        path
+    };
+    let servers = Authority::new("Larchmere Valley Infirmary test server CA");
+    let clients = Authority::new("Larchmere Valley Infirmary test client CA");
+    let (cert, key) = servers.leaf("localhost", ServerAuth);
+    let (client_cert, client_key) = clients.leaf("laboratory-verification", ClientAuth);
+    let server = TestServer::start_with(Config {
+        tls_cert: Some(write("server.pem", &cert)),
+        tls_key: Some(write("server.key", &key)),
+        client_ca: Some(write("clients-ca.pem", &clients.issuer.pem())),
+        ..Config::default()
+    })
+    .await;
+    let ca = write("servers-ca.pem", &servers.issuer.pem());
+    let client_cert = write("client.pem", &client_cert);
+    let client_key = write("client.key", &client_key);
+    let address = format!("https://localhost:{}", server.address().port());
+    let (output, _, json) = verify(
+        &address,
+        dir.path(),
+        "tls",
+        &[
+            "--ca-cert",
+            ca.to_str().unwrap(),
+            "--client-cert",
+            client_cert.to_str().unwrap(),
+            "--client-key",
+            client_key.to_str().unwrap(),
+        ],
+    )
+    .await;
+    assert_eq!(
+        output.status.code(),
+        Some(0),
+        "stdout: {}\nstderr: {}",
+        text(&output.stdout),
+        text(&output.stderr)
+    );
+    let report = read_json(&json);
+    let surfaces = report["surfaces"].as_array().unwrap();
+    for key in ["grpc", "connect-json"] {
+        let door = surfaces.iter().find(|s| s["key"] == key).unwrap();
+        assert_eq!(door["answered"], true, "{door}");
+        assert_eq!(door["passed"], door["cases"], "{door}");
+    }
+    let setting = |name: &str| {
+        report["settings"]["items"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|s| s["name"] == name)
+            .map(|s| s["value"].clone())
+    };
+    assert_eq!(setting("tls"), Some(Value::from("on")));
+    assert_eq!(setting("mutual-tls"), Some(Value::from("on")));
+    server.stop().await;
+}
