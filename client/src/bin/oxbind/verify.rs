@@ -131,6 +131,9 @@ pub(crate) async fn run(args: &VerifyArgs, connection: &Connection<'_>) -> Resul
         write(&PathBuf::from(path), &report.to_json())?;
     }
     summary(&report)?;
+    if args.report.is_none() && args.json.is_none() {
+        output::line("no report written: give --report FILE (HTML) and --json FILE to keep one")?;
+    }
     if let Some(previous) = previous {
         let current: serde_json::Value = serde_json::from_str(&report.to_json())
             .map_err(|e| Failure::Other(format!("the report: {e}")))?;

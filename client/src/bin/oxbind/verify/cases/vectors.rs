@@ -28,6 +28,19 @@ pub(crate) fn cases(files: &[EmbeddedFile]) -> CaseSet {
         };
         for vector in vectors {
             let name = vector["name"].as_str().unwrap_or("(unnamed)");
+            // A vector whose expected values name no source is not a
+            // verification case.
+            if vector["source"]
+                .as_str()
+                .is_none_or(|s| s.trim().is_empty())
+            {
+                set.not_run.push(problem(
+                    file,
+                    name,
+                    "the vector names no source for its expected values".to_owned(),
+                ));
+                continue;
+            }
             match case(file, vector) {
                 Ok(case) => set.cases.push(case),
                 Err(reason) => set.problems.push(problem(file, name, reason)),
@@ -136,4 +149,35 @@ fn item_error(entry: &Value) -> Result<ItemError, String> {
             .ok_or("item error without reason")?
             .to_owned(),
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const FILE: EmbeddedFile = EmbeddedFile {
+        path: "tests/vectors/example.json",
+        text: r#"{"vectors": [
+            {"name": "a", "rpc": "oxbind.v1.DissociationService/SaturationFromTension",
+             "request": {"po2": {"value": 40, "unit": "mm[Hg]"}},
+             "expect": [{"path": "saturationFraction", "value": 0.749465, "tolerance": 1e-6}],
+             "source": "derived from Severinghaus 1979 Eq. 1"},
+            {"name": "b", "rpc": "oxbind.v1.DissociationService/SaturationFromTension",
+             "request": {}, "expect": [{"path": "saturationFraction", "value": 0.5, "tolerance": 1e-6}]},
+            {"name": "c", "rpc": "oxbind.v1.DissociationService/SaturationFromTension",
+             "request": {}, "expect": [{"path": "saturationFraction", "value": 0.5}],
+             "source": "somewhere"}
+        ]}"#,
+    };
+
+    #[test]
+    fn a_vector_is_a_case_only_with_a_source_and_a_tolerance() {
+        let set = cases(&[FILE]);
+        assert_eq!(set.cases.len(), 1);
+        assert_eq!(set.cases[0].id, "example.json/a");
+        assert_eq!(set.not_run.len(), 1);
+        assert_eq!(set.not_run[0].location, "b");
+        assert_eq!(set.problems.len(), 1);
+        assert!(set.problems[0].reason.contains("without a tolerance"));
+    }
 }

@@ -338,15 +338,12 @@ fn temperature_correction(row: &Row) -> Result<RowOutcome, String> {
         "targetTemperature".to_owned(),
         quantity(row.input("to")?, "Cel"),
     );
-    let mut checks = row.checks(path);
-    if path == "ph" {
-        // The table's unit `pH` is not a field of the answer.
-        checks.truncate(1);
-    }
+    // A plain number (pH) gets its value check alone: the table's unit
+    // `pH` is not a field of the answer.
     Ok(RowOutcome::Case {
         rpc: "DissociationService/CorrectForTemperature",
         request: Value::Object(request),
-        checks,
+        checks: row.checks(path),
         note: None,
     })
 }
