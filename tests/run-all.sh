@@ -82,6 +82,9 @@ bash tests/interop/run.sh
 step "Connect (the official Connect client for Python, connectrpc)"
 bash tests/connect/run.sh
 
+step "FHIR answers validated independently (fhirclient, R4 JSON Schema, FHIRPath)"
+bash tests/fhir/run.sh
+
 step "fuzz smoke (cargo-fuzz on the nightly toolchain: corpus replay and about 60 s of fuzzing)"
 bash tests/fuzz-smoke.sh
 

@@ -5,6 +5,8 @@
 pub mod http;
 pub mod vectors;
 
+pub mod fhir;
+
 use std::{future::Future, net::SocketAddr, pin::Pin};
 
 use oxbind_service::{Config, ServeError};

@@ -32,7 +32,7 @@ const MYOGLOBIN_PRESET_SOURCE: &str = "n 1 (a single binding site: hyperbolic cu
 practice); P50 2.8 mm[Hg] at 37 Cel from memory (about 2 Torr per Wikibooks Structural Biochemistry)";
 
 /// The wire enum value of a catalog model id.
-fn wire_model(id: &str) -> WireModel {
+pub fn wire_model(id: &str) -> WireModel {
     match id {
         "severinghaus-1979" => WireModel::Severinghaus1979,
         "kelman-1966" => WireModel::Kelman1966,

@@ -32,6 +32,7 @@ pub mod shift;
 pub mod solver;
 pub mod temperature;
 pub mod tolerance;
+pub mod uncertainty;
 pub mod units;
 
 // Re-exports: the public paths of the flat layout, kept so that code written

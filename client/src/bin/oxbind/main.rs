@@ -10,6 +10,7 @@ mod columns;
 mod commands;
 mod demo;
 mod failure;
+mod fhir;
 mod fields;
 #[path = "../common/model_arg.rs"]
 mod model_arg;
@@ -135,6 +136,9 @@ enum Command {
     Batch(batch::BatchArgs),
     /// An invented scenario at a fictional hospital (`--svg` draws its curves).
     Demo(demo::DemoArgs),
+    /// Derived Observations from a FHIR R4 Parameters or Bundle of
+    /// LOINC-coded Observations (the server's $derive-oxygen-values).
+    Fhir(fhir::FhirArgs),
     /// Run every published check case through the server, through each
     /// door it answers on, and write a report a laboratory can file
     /// (`--report` HTML, `--json` JSON); exit 0 only if every case passed.
@@ -249,6 +253,7 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
     match &cli.command {
         Command::Batch(_) if cli.json.is_some() => unused("--json", "batch (it writes CSV)"),
         Command::Demo(_) if cli.json.is_some() => unused("--json", "demo"),
+        Command::Fhir(_) if cli.json.is_some() => unused("--json", "fhir (it prints FHIR JSON)"),
         Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
             if cli.model.is_some() =>
         {
@@ -269,6 +274,9 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         let mut script = Vec::new();
         clap_complete::generate(*shell, &mut Cli::command(), "oxbind", &mut script);
         return output::line(String::from_utf8_lossy(&script).trim_end());
+    }
+    if let Command::Fhir(args) = &cli.command {
+        return fhir::run(cli, args).await;
     }
     let model = cli
         .model
@@ -316,7 +324,7 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
             None => Ok(()),
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
-        Command::Completions { .. } | Command::Verify(_) => Ok(()),
+        Command::Completions { .. } | Command::Fhir(_) | Command::Verify(_) => Ok(()),
     }
 }
 
