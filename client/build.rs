@@ -25,6 +25,10 @@ const CASE_FOLDERS: [(&str, &str, &str); 2] = [
 /// The API reference whose worked examples are check cases.
 const API_REFERENCE: &str = "proto/API.md";
 
+/// The FHIR door's table of LOINC and own codes, by which the FHIR surface
+/// reads the derived Observations.
+const FHIR_CODES: &str = "service/src/http/fhir/data/loinc-mapping.csv";
+
 /// Longest commit id accepted from the environment.
 const MAX_COMMIT_LEN: usize = 64;
 
@@ -62,6 +66,13 @@ fn main() {
         "/// `{API_REFERENCE}`, whose worked examples are check cases.\n\
          pub(crate) const API_REFERENCE_FILE: EmbeddedFile = {};\n",
         entry(&root, &reference).trim_end().trim_end_matches(',')
+    ));
+    let codes = root.join(FHIR_CODES);
+    println!("cargo:rerun-if-changed={}", codes.display());
+    generated.push_str(&format!(
+        "/// `{FHIR_CODES}`, the codes of the FHIR door's derived Observations.\n\
+         pub(crate) const FHIR_CODES_FILE: EmbeddedFile = {};\n",
+        entry(&root, &codes).trim_end().trim_end_matches(',')
     ));
     generated.push_str(&format!(
         "/// The commit this command line was built from.\npub(crate) const CLIENT_BUILD_COMMIT: &str = {:?};\n",

@@ -1,6 +1,7 @@
 //! `oxbind verify` against real servers in this process (the one test-server
 //! helper, `oxbind_tests::TestServer`): every case passes against the real
-//! service and two runs with the same `--as-of` give identical bytes; a
+//! service on its gRPC, Connect and FHIR doors, and two runs with the same
+//! `--as-of` give identical bytes; a
 //! stand-in server with one answer altered is caught, named and refused;
 //! and the HTML report is rendered by headless Chromium, so that it is
 //! known to print.
@@ -108,6 +109,9 @@ async fn every_case_passes_against_the_service_and_two_runs_are_byte_identical()
     assert_eq!(door("grpc")["answered"], true);
     assert_eq!(door("connect-json")["answered"], true);
     assert_eq!(door("connect-json")["cases"], door("grpc")["cases"]);
+    // The FHIR door carries the cases it can write as Observations.
+    assert_eq!(door("fhir-r4")["answered"], true);
+    assert!(door("fhir-r4")["cases"].as_u64().unwrap() >= 50, "{}", door("fhir-r4"));
     assert_eq!(report["reverification"]["dueBy"], "2027-06-03");
     let families: BTreeSet<&str> = report["cases"]
         .as_array()

@@ -97,7 +97,7 @@ pub(crate) async fn run(input: RunInput<'_>) -> Result<Report, RunError> {
         let mut passed = 0;
         if probe.answered {
             for case in &input.cases.cases {
-                if !surface.offers(&case.rpc) {
+                if !surface.offers(case) {
                     continue;
                 }
                 let record = run_case(*surface, case, &model_ids, &default_model).await;

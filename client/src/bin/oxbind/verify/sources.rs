@@ -12,10 +12,11 @@ pub(crate) struct EmbeddedFile {
 
 include!(concat!(env!("OUT_DIR"), "/verify_sources.rs"));
 
-/// Every embedded file, in a fixed order: vectors, tables, the API reference.
+/// Every embedded file, in a fixed order: vectors, tables, the API
+/// reference, the FHIR door's codes.
 pub(crate) fn all() -> impl Iterator<Item = &'static EmbeddedFile> {
     VECTOR_FILES
         .iter()
         .chain(TABLE_FILES.iter())
-        .chain(std::iter::once(&API_REFERENCE_FILE))
+        .chain([&API_REFERENCE_FILE, &FHIR_CODES_FILE])
 }

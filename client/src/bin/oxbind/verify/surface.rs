@@ -12,6 +12,8 @@ pub(crate) mod grpc;
 use std::{future::Future, pin::Pin};
 
 use oxbind_client::ClientError;
+
+use super::case::Case;
 use prost_reflect::MethodDescriptor;
 use serde::Serialize;
 use serde_json::Value;
@@ -27,8 +29,8 @@ pub(crate) trait Surface: Send + Sync {
     fn title(&self) -> &'static str;
     /// Whether the deployment answers on it.
     fn probe(&self) -> Pending<'_, Probe>;
-    /// Whether it offers `rpc` (`oxbind.v1.Service/Method`).
-    fn offers(&self, rpc: &str) -> bool;
+    /// Whether it can send `case` and read back everything the case checks.
+    fn offers(&self, case: &Case) -> bool;
     /// Send `request` to `method`.
     fn call<'a>(
         &'a self,

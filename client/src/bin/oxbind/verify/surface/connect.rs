@@ -17,7 +17,7 @@ use serde_json::Value;
 use std::time::Duration;
 
 use super::{CallFailure, Pending, Probe, Surface};
-use crate::verify::contract;
+use crate::verify::{case::Case, contract};
 
 /// The Connect protocol version header and its one value.
 const PROTOCOL_VERSION: (&str, &str) = ("connect-protocol-version", "1");
@@ -123,7 +123,7 @@ impl Surface for ConnectJson {
         })
     }
 
-    fn offers(&self, _rpc: &str) -> bool {
+    fn offers(&self, _case: &Case) -> bool {
         true
     }
 

@@ -14,7 +14,7 @@ use tonic::{
 };
 
 use super::{CallFailure, Pending, Probe, Surface};
-use crate::verify::contract;
+use crate::verify::{case::Case, contract};
 
 /// The gRPC door of one deployment.
 pub(crate) struct Grpc {
@@ -71,7 +71,7 @@ impl Surface for Grpc {
         })
     }
 
-    fn offers(&self, _rpc: &str) -> bool {
+    fn offers(&self, _case: &Case) -> bool {
         true
     }
 
