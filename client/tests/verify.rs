@@ -111,7 +111,11 @@ async fn every_case_passes_against_the_service_and_two_runs_are_byte_identical()
     assert_eq!(door("connect-json")["cases"], door("grpc")["cases"]);
     // The FHIR door carries the cases it can write as Observations.
     assert_eq!(door("fhir-r4")["answered"], true);
-    assert!(door("fhir-r4")["cases"].as_u64().unwrap() >= 50, "{}", door("fhir-r4"));
+    assert!(
+        door("fhir-r4")["cases"].as_u64().unwrap() >= 50,
+        "{}",
+        door("fhir-r4")
+    );
     assert_eq!(report["reverification"]["dueBy"], "2027-06-03");
     let families: BTreeSet<&str> = report["cases"]
         .as_array()

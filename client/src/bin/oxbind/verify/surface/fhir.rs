@@ -52,9 +52,12 @@ enum Reading {
     Number,
 }
 
-/// The fields of each RPC's answer this door returns, and the derived value
-/// (the door's own code name) each comes from.
-const OUTPUTS: [(&str, &[(&str, &str, Reading)]); 5] = [
+/// One field of an answer: its name, the derived value (the door's own code
+/// name) it comes from, and how it is read.
+type Field = (&'static str, &'static str, Reading);
+
+/// The fields of each RPC's answer this door returns.
+const OUTPUTS: [(&str, &[Field]); 5] = [
     (
         "SaturationFromTension",
         &[
@@ -226,7 +229,7 @@ fn output_codes() -> BTreeMap<String, BTreeSet<String>> {
 }
 
 /// The fields this door returns for `rpc` (the method's name alone).
-fn outputs(rpc: &str) -> Option<&'static [(&'static str, &'static str, Reading)]> {
+fn outputs(rpc: &str) -> Option<&'static [Field]> {
     OUTPUTS.iter().find(|(r, _)| *r == rpc).map(|(_, o)| *o)
 }
 
