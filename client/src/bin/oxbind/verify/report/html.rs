@@ -132,7 +132,7 @@ fn instance(report: &Report) -> Markup {
 fn doors(report: &Report) -> Markup {
     html! {
         h2 { "Doors probed" }
-        p { "Every case runs through every door that answers and offers its method, so a number is shown not to depend on the door." }
+        p { "Every case runs through every door that answers and can carry it, so a number is shown not to depend on the door." }
         table {
             thead { tr { th { "Door" } th { "Answered" } th { "What was found" } th.num { "Cases" } th.num { "Passed" } } }
             tbody {
