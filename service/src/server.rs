@@ -28,6 +28,7 @@ use tonic::transport::{server::TcpIncoming, Server};
 use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::util::option_layer;
 
+use crate::api::server_settings::ReportedSettings;
 use crate::{
     config::Config,
     grpc::{CatalogApi, DissociationApi, TransportApi},
@@ -155,6 +156,7 @@ where
             max_batch_items: config.max_batch_items,
             max_request_bytes: decode,
             max_response_bytes: encode,
+            settings: std::sync::Arc::new(ReportedSettings::from_config(&config)),
         },
     );
     // The FHIR R4 door under /fhir/r4, with its own copy of the same layer.
@@ -183,7 +185,7 @@ where
                 .max_encoding_message_size(encode),
         )
         .add_service(
-            ModelCatalogServiceServer::new(CatalogApi::new(config.max_batch_items))
+            ModelCatalogServiceServer::new(CatalogApi::from_config(&config))
                 .max_decoding_message_size(decode)
                 .max_encoding_message_size(encode),
         );
