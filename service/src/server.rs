@@ -43,6 +43,7 @@ use tower::{
 };
 
 use crate::{
+    api::server_settings::ReportedSettings,
     config::Config,
     grpc::{CatalogApi, DissociationApi, TransportApi},
     http::{connect, fhir, DispatchLayer},
@@ -181,7 +182,7 @@ where
                 .max_encoding_message_size(encode),
         )
         .add_service(
-            ModelCatalogServiceServer::new(CatalogApi::new(config.max_batch_items))
+            ModelCatalogServiceServer::new(CatalogApi::from_config(&config))
                 .max_decoding_message_size(decode)
                 .max_encoding_message_size(encode),
         );
@@ -211,6 +212,7 @@ where
             max_batch_items: config.max_batch_items,
             max_request_bytes: decode,
             max_response_bytes: encode,
+            settings: std::sync::Arc::new(ReportedSettings::from_config(&config)),
         },
     );
     let fhir = fhir::door::door(&doors, decode);

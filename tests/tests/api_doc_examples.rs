@@ -1384,3 +1384,51 @@ writes it `Cel`); accepted UCUM codes (case-sensitive): Cel, [degF]",
     );
     server.stop().await;
 }
+
+/// API.md section 7.12: the answer of a server with the default settings is
+/// the one printed, setting by setting (the identity is a placeholder
+/// there).
+#[tokio::test]
+async fn get_server_settings_example_is_true() {
+    let document = include_str!("../../proto/API.md");
+    let section = document
+        .split("### 7.12 GetServerSettings")
+        .nth(1)
+        .expect("API.md has section 7.12");
+    let block = section
+        .split("```json")
+        .nth(1)
+        .and_then(|rest| rest.split("```").next())
+        .expect("section 7.12 prints the answer");
+    let printed: serde_json::Value = serde_json::from_str(block).expect("the answer is JSON");
+    let server = TestServer::start().await;
+    let answer = ModelCatalogServiceClient::new(server.channel().await)
+        .get_server_settings(oxbind_client::v1::GetServerSettingsRequest {})
+        .await
+        .expect("answers")
+        .into_inner();
+    assert_eq!(printed["apiVersion"], answer.api_version.as_str());
+    assert_eq!(answer.service_version, env!("CARGO_PKG_VERSION"));
+    // A value printed as a placeholder (`<cores>`: it depends on the
+    // machine) stands for whatever the server reports.
+    let settings: Vec<serde_json::Value> = answer
+        .settings
+        .iter()
+        .zip(printed["settings"].as_array().into_iter().flatten())
+        .map(|(s, shown)| {
+            let placeholder = shown["value"].as_str().is_some_and(|v| v.starts_with('<'));
+            let value = if placeholder {
+                shown["value"].as_str().unwrap_or_default()
+            } else {
+                s.value.as_str()
+            };
+            serde_json::json!({"name": s.name, "value": value, "meaning": s.meaning})
+        })
+        .collect();
+    assert_eq!(
+        printed["settings"].as_array().map(Vec::len),
+        Some(answer.settings.len())
+    );
+    assert_eq!(printed["settings"], serde_json::Value::Array(settings));
+    server.stop().await;
+}

@@ -86,6 +86,9 @@ async fn call(channel: Channel, rpc: &str, body: &[u8]) -> Result<Vec<u8>, tonic
         "oxbind.v1.ModelCatalogService/ListModels" => {
             unary!(Catalog, channel, list_models, body)
         }
+        "oxbind.v1.ModelCatalogService/GetServerSettings" => {
+            unary!(Catalog, channel, get_server_settings, body)
+        }
         other => panic!("no client call for {other}"),
     }
 }

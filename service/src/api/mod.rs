@@ -14,6 +14,7 @@ pub mod model_choice;
 pub mod observe;
 pub mod provenance;
 pub mod reader;
+pub mod server_settings;
 pub mod standard_ranges;
 pub mod status;
 pub mod transport;

@@ -16,6 +16,7 @@ mod fields;
 mod model_arg;
 mod output;
 mod plot;
+mod verify;
 
 use std::{path::PathBuf, time::Duration};
 
@@ -63,9 +64,14 @@ pub(crate) struct Cli {
 
     /// Print protobuf JSON (lowerCamelCase names, enums as names) instead of
     /// a table; a refusal is then one JSON object on standard error, with
-    /// the contract's field paths.
-    #[arg(long, global = true, help_heading = GLOBAL)]
-    json: bool,
+    /// the contract's field paths. (`oxbind verify --json FILE` writes its
+    /// JSON report to FILE instead.)
+    // A value-less flag whose value, when given, is empty: `verify` defines
+    // its own `--json FILE` under the same id, which clap then does not
+    // propagate here, and both read as text.
+    #[arg(long, global = true, help_heading = GLOBAL, num_args = 0, default_missing_value = "",
+          value_name = "")]
+    json: Option<String>,
 
     /// PEM bundle of CA certificates to trust (turns on TLS).
     #[arg(long, global = true, help_heading = GLOBAL, env = "OXBIND_CA_CERT", value_name = "FILE")]
@@ -133,6 +139,11 @@ enum Command {
     /// Derived Observations from a FHIR R4 Parameters or Bundle of
     /// LOINC-coded Observations (the server's $derive-oxygen-values).
     Fhir(fhir::FhirArgs),
+    /// Run every published check case through the server, through each
+    /// door it answers on, and write a report a laboratory can file
+    /// (`--report` HTML, `--json` JSON); exit 0 only if every case passed.
+    #[command(after_help = verify::AFTER_HELP)]
+    Verify(verify::VerifyArgs),
     /// Print a shell completion script.
     Completions {
         /// The shell.
@@ -240,16 +251,18 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
         )))
     };
     match &cli.command {
-        Command::Batch(_) if cli.json => unused("--json", "batch (it writes CSV)"),
-        Command::Demo(_) if cli.json => unused("--json", "demo"),
-        Command::Fhir(_) if cli.json => unused("--json", "fhir (it prints FHIR JSON)"),
-        Command::Health | Command::Models | Command::Completions { .. } if cli.model.is_some() => {
-            unused("--model", "health, models or completions")
+        Command::Batch(_) if cli.json.is_some() => unused("--json", "batch (it writes CSV)"),
+        Command::Demo(_) if cli.json.is_some() => unused("--json", "demo"),
+        Command::Fhir(_) if cli.json.is_some() => unused("--json", "fhir (it prints FHIR JSON)"),
+        Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
+            if cli.model.is_some() =>
+        {
+            unused("--model", "health, models, verify or completions")
         }
-        Command::Health | Command::Models | Command::Completions { .. }
+        Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
             if cli.unit_system.is_some() =>
         {
-            unused("--unit-system", "health, models or completions")
+            unused("--unit-system", "health, models, verify or completions")
         }
         _ => Ok(()),
     }
@@ -279,11 +292,21 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         _ => None,
     };
     let server_name = source_name(matches, "server", "--server", "OXBIND_SERVER");
+    if let Command::Verify(args) = &cli.command {
+        let connection = verify::Connection {
+            server: &cli.server,
+            server_name: &server_name,
+            ca_cert: cli.ca_cert.as_ref(),
+            identity: cli.client_cert.as_ref().zip(cli.client_key.as_ref()),
+            timeout: cli.timeout,
+        };
+        return verify::run(args, &connection).await;
+    }
     let ctx = Context {
         client: connect(cli, &server_name).await?,
         model,
         unit_system,
-        json: cli.json,
+        json: cli.json.is_some(),
     };
     match &cli.command {
         Command::Saturation(a) => commands::saturation(&ctx, a).await,
@@ -301,7 +324,7 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
             None => Ok(()),
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
-        Command::Completions { .. } | Command::Fhir(_) => Ok(()),
+        Command::Completions { .. } | Command::Fhir(_) | Command::Verify(_) => Ok(()),
     }
 }
 
@@ -328,7 +351,7 @@ async fn main() {
         Ok(()) => failure::EXIT_OK,
         Err(failure) => failure.report(&Reporting {
             names: &names_for(&cli.command),
-            json: cli.json,
+            json: cli.json.is_some() && !matches!(cli.command, Command::Verify(_)),
             timeout: &timeout,
         }),
     };

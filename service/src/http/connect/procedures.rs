@@ -12,12 +12,16 @@ use tower::Service;
 
 use super::{request, Codec};
 use crate::{
-    api::{catalog, dissociation, status::InvalidRequest, transport},
+    api::{
+        catalog, dissociation, server_settings, server_settings::ReportedSettings,
+        status::InvalidRequest, transport,
+    },
     layers::{call::CallOutcome, door::DoorLayers, work},
 };
 
-/// What a procedure needs besides the request: the configured limits.
-#[derive(Debug, Clone, Copy)]
+/// What a procedure needs besides the request: the configured limits, and
+/// the settings GetServerSettings reports.
+#[derive(Debug, Clone)]
 pub struct Limits {
     /// Largest batch accepted (`--max-batch-items`).
     pub max_batch_items: usize,
@@ -27,6 +31,8 @@ pub struct Limits {
     /// Largest response message sent, in bytes as sent
     /// (`--max-encoded-message-bytes`).
     pub max_response_bytes: usize,
+    /// The settings GetServerSettings reports.
+    pub settings: std::sync::Arc<ReportedSettings>,
 }
 
 /// One call of a procedure: the request message as sent, its codec, and the
@@ -66,7 +72,7 @@ type Procedure = fn(&Call<'_>) -> Result<Bytes, Status>;
 /// Every v1 RPC by its Connect path (`/<package>.<Service>/<Method>`). All
 /// are free of side effects (`idempotency_level = NO_SIDE_EFFECTS`), so all
 /// take the GET form too.
-const PROCEDURES: [(&str, Procedure); 11] = [
+const PROCEDURES: [(&str, Procedure); 12] = [
     (
         "/oxbind.v1.DissociationService/SaturationFromTension",
         |call| call.unary(dissociation::compute_saturation_from_tension),
@@ -112,6 +118,14 @@ const PROCEDURES: [(&str, Procedure); 11] = [
     }),
     ("/oxbind.v1.ModelCatalogService/ListModels", |call| {
         call.unary(|r| Ok(catalog::compute_list_models(r, call.limits.max_batch_items)))
+    }),
+    ("/oxbind.v1.ModelCatalogService/GetServerSettings", |call| {
+        call.unary(|r| {
+            Ok(server_settings::compute_get_server_settings(
+                r,
+                &call.limits.settings,
+            ))
+        })
     }),
 ];
 
@@ -162,7 +176,7 @@ impl Service<Request<Body>> for Procedures {
     }
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
-        let (limits, layers) = (self.limits, self.layers.clone());
+        let (limits, layers) = (self.limits.clone(), self.layers.clone());
         Box::pin(async move {
             Ok(match answer(request, limits, &layers).await {
                 Ok(response) => response,
