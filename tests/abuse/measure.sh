@@ -31,3 +31,8 @@ run idle-sockets idle-sockets --sockets 1100 --honest-limit-s 30 --observe-s 30
 run idle-sockets-mtls idle-sockets --mutual-tls --sockets 1100 --honest-limit-s 30 --observe-s 30
 run health-sockets --open-file-limit 4096 health-sockets --sockets 5000 --honest-limit-s 30 --observe-s 20
 run idle-connections idle-connections --connections 64 --observe-s 75
+run connect-idle-sockets connect-idle-sockets --sockets 300 --honest-limit-s 30 --observe-s 30
+run http1-unfinished-heads http1-unfinished-heads --sockets 1100 --honest-limit-s 30 --observe-s 30
+run connect-unsent-bodies connect-unsent-bodies
+run connect-batch-flood connect-batch-flood --duration-s 20
+run doors-overload doors-overload
