@@ -980,7 +980,13 @@ async fn list_models_example_is_true() {
         "Oxbind results are decision support only. They are computed from published \
 equations and do not replace measured co-oximetry or the judgement of a licensed clinician. \
 Local laboratory policy decides which values are reported, in which units and with which \
-model. Pass every warning on with the value it concerns."
+model. Pass every warning on with the value it concerns. An uncertainty interval describes the \
+arithmetic from the figures stated for the inputs, not the patient; the built-in profiles are \
+fallbacks, some not verified at their source (see uncertainty_profiles), and a laboratory's own \
+imprecision and a device's own accuracy describe its results better. Pulse-oximetry bias by \
+skin pigmentation (and by low perfusion or dyshaemoglobins) is not included in any uncertainty \
+unless the caller gives it as a figure: the pulse-oximeter accuracy figures come from \
+laboratory studies in healthy volunteers."
     );
     // The limits table of API.md: (input, min, min_inclusive, max, max_inclusive, unit,
     // error reason).
@@ -988,12 +994,16 @@ model. Pass every warning on with the value it concerns."
         .input_limits
         .iter()
         .map(|l| {
-            let (min, max) = (l.min.as_ref().unwrap(), l.max.as_ref().unwrap());
+            // An absent max is no upper limit (a finite value is enough).
+            let (min, max) = (
+                l.min.as_ref().unwrap(),
+                l.max.as_ref().map_or(f64::INFINITY, |m| m.value),
+            );
             (
                 l.input.as_str(),
                 min.value,
                 l.min_inclusive,
-                max.value,
+                max,
                 l.max_inclusive,
                 min.unit.as_str(),
                 l.error_reason.as_str(),
@@ -1170,6 +1180,87 @@ model. Pass every warning on with the value it concerns."
                 "PAIR_COUNT_OUT_OF_RANGE"
             ),
             (
+                "uncertainty_draws",
+                10_000.0,
+                true,
+                1_000_000.0,
+                true,
+                "1",
+                "DRAW_COUNT_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_coverage_probability",
+                0.5,
+                true,
+                0.99,
+                true,
+                "1",
+                "COVERAGE_PROBABILITY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_significant_digits",
+                1.0,
+                true,
+                4.0,
+                true,
+                "1",
+                "SIGNIFICANT_DIGITS_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_figures",
+                0.0,
+                true,
+                32.0,
+                true,
+                "1",
+                "TOO_MANY_UNCERTAINTY_FIGURES"
+            ),
+            (
+                "uncertainty_absolute",
+                0.0,
+                true,
+                f64::INFINITY,
+                false,
+                "1",
+                "UNCERTAINTY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_relative",
+                0.0,
+                true,
+                1.0,
+                true,
+                "1",
+                "UNCERTAINTY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_bound_coverage",
+                0.0,
+                false,
+                1.0,
+                false,
+                "1",
+                "COVERAGE_PROBABILITY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_coverage_factor",
+                0.0,
+                false,
+                f64::INFINITY,
+                false,
+                "1",
+                "COVERAGE_FACTOR_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_trapezoid_ratio",
+                0.0,
+                true,
+                1.0,
+                true,
+                "1",
+                "TRAPEZOID_RATIO_OUT_OF_RANGE"
+            ),
+            (
                 "batch_items",
                 1.0,
                 true,
@@ -1276,6 +1367,42 @@ model. Pass every warning on with the value it concerns."
         ("curve_points", owned(&["point_count"])),
         ("curve_condition_sets", owned(&["condition_sets"])),
         ("measured_pairs", owned(&["pairs"])),
+        ("uncertainty_draws", owned(&["uncertainty.draw_count"])),
+        (
+            "uncertainty_coverage_probability",
+            owned(&["uncertainty.coverage_probability"]),
+        ),
+        (
+            "uncertainty_significant_digits",
+            owned(&["uncertainty.significant_digits"]),
+        ),
+        ("uncertainty_figures", owned(&["uncertainty.inputs"])),
+        (
+            "uncertainty_absolute",
+            owned(&[
+                "uncertainty.inputs[].standard_uncertainty.absolute",
+                "uncertainty.inputs[].bound.half_width.absolute",
+            ]),
+        ),
+        (
+            "uncertainty_relative",
+            owned(&[
+                "uncertainty.inputs[].standard_uncertainty.relative",
+                "uncertainty.inputs[].bound.half_width.relative",
+            ]),
+        ),
+        (
+            "uncertainty_bound_coverage",
+            owned(&["uncertainty.inputs[].bound.coverage_probability"]),
+        ),
+        (
+            "uncertainty_coverage_factor",
+            owned(&["uncertainty.inputs[].bound.coverage_factor"]),
+        ),
+        (
+            "uncertainty_trapezoid_ratio",
+            owned(&["uncertainty.inputs[].bound.trapezoid_top_ratio"]),
+        ),
         ("batch_items", owned(&["requests"])),
     ];
     let expected_fields: Vec<(&str, Vec<&str>)> = expected_fields

@@ -17,5 +17,6 @@ pub mod reader;
 pub mod standard_ranges;
 pub mod status;
 pub mod transport;
+pub mod uncertainty;
 pub mod units;
 pub mod warnings;

@@ -70,6 +70,7 @@ pub(crate) async fn saturation(ctx: &Context, a: &SaturationArgs) -> Result<(), 
             model: ctx.model,
             hill: a.hill.to_hill(),
             unit_system: ctx.unit_system,
+            uncertainty: None,
         })
         .await?;
     json_or(
@@ -113,6 +114,7 @@ pub(crate) async fn tension(ctx: &Context, a: &TensionArgs) -> Result<(), Failur
             model: ctx.model,
             hill: a.hill.to_hill(),
             unit_system: ctx.unit_system,
+            uncertainty: None,
         })
         .await?;
     json_or(
@@ -348,6 +350,7 @@ pub(crate) async fn shift(ctx: &Context, a: &ShiftArgs) -> Result<(), Failure> {
             conditions: a.conditions.to_conditions(),
             model: ctx.model,
             unit_system: ctx.unit_system,
+            uncertainty: None,
         })
         .await?;
     json_or(ctx, &response, "oxbind.v1.ShiftFactorsResponse", |r| {
@@ -596,6 +599,7 @@ pub(crate) async fn content(ctx: &Context, a: &ContentArgs) -> Result<(), Failur
             cardiac_output: a.cardiac_output.clone(),
             hufner_factor_ml_per_g: a.hufner,
             unit_system: ctx.unit_system,
+            uncertainty: None,
         })
         .await?;
     json_or(ctx, &response, "oxbind.v1.OxygenContentResponse", |r| {
@@ -713,6 +717,7 @@ pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(
             body_temperature: a.body_temp.clone(),
             unit_system: ctx.unit_system,
             alveolar_equation: equation as i32,
+            uncertainty: None,
         })
         .await?;
     // The ratios of PaO2 to FiO2 are pressures (per unit fraction), in the
