@@ -229,3 +229,17 @@ async fn the_documented_codes_are_the_ones_a_server_answers_with() {
         assert!(documented.contains(&code), "{code:?} is not documented");
     }
 }
+
+#[test]
+fn the_uncertainty_profile_table_is_the_servers() {
+    use oxbind_service::physiology::uncertainty::profiles::profiles;
+    let rows = table_after("### Built-in profiles");
+    let table = profiles().expect("the compiled-in table parses");
+    assert_eq!(rows.len(), table.len());
+    for (row, p) in rows.iter().zip(table) {
+        assert_eq!(unquote(&row[0]), p.id, "{row:?}");
+        assert_eq!(unquote(&row[1]), p.set, "{row:?}");
+        assert_eq!(unquote(&row[2]), p.input.name(), "{row:?}");
+        assert_eq!(unquote(&row[4]), p.verification.name(), "{row:?}");
+    }
+}
