@@ -952,6 +952,25 @@ pub(crate) async fn models(ctx: &Context) -> Result<(), Failure> {
             }
         ))?;
     }
+    if !response.uncertainty_profiles.is_empty() {
+        output::line(
+            "\nuncertainty profiles (a set: --uncertainty SET; one: --u NAME=ID; --json gives each figure and source):",
+        )?;
+        for p in &response.uncertainty_profiles {
+            let verification = oxbind_client::v1::ProfileVerification::try_from(p.verification)
+                .map(|v| {
+                    v.as_str_name()
+                        .trim_start_matches("PROFILE_VERIFICATION_")
+                        .to_lowercase()
+                        .replace('_', " ")
+                })
+                .unwrap_or_default();
+            output::line(format!(
+                "{:<44} {verification}: {}",
+                p.profile_id, p.description
+            ))?;
+        }
+    }
     if !response.cautions.is_empty() {
         output::line(format!("\n{}", response.cautions))?;
     }
