@@ -18,5 +18,6 @@ pub mod server_settings;
 pub mod standard_ranges;
 pub mod status;
 pub mod transport;
+pub mod uncertainty;
 pub mod units;
 pub mod warnings;

@@ -16,6 +16,7 @@ mod fields;
 mod model_arg;
 mod output;
 mod plot;
+mod uncertainty;
 mod verify;
 
 use std::{path::PathBuf, time::Duration};
@@ -209,14 +210,16 @@ fn usage(error: impl std::fmt::Display) -> Failure {
 /// How the command's flags name its request's fields.
 fn names_for(command: &Command) -> FieldNames {
     match command {
-        Command::Saturation(_) | Command::Tension(_) | Command::Shift(_) => {
-            commands::curve_point_names()
-        }
-        Command::Curve(a) => commands::curve_names(commands::curve_sets(a).0.len() - 1),
+        Command::Saturation(a) => a.uncertainty.names(commands::curve_point_names()),
+        Command::Tension(a) => a.uncertainty.names(commands::curve_point_names()),
+        Command::Shift(a) => a.uncertainty.names(commands::curve_point_names()),
+        Command::Curve(a) => a
+            .uncertainty
+            .names(commands::curve_names(commands::curve_sets(a).0.len() - 1)),
         Command::P50(a) => commands::p50_names(a.pairs_len()),
         Command::Temperature(_) => commands::temperature_names(),
-        Command::Content(_) => commands::content_names(),
-        Command::GasExchange(_) => commands::gas_exchange_names(),
+        Command::Content(a) => a.uncertainty.names(commands::content_names()),
+        Command::GasExchange(a) => a.uncertainty.names(commands::gas_exchange_names()),
         Command::Demo(_) => commands::curve_point_names(),
         _ => FieldNames::new(),
     }

@@ -699,6 +699,8 @@ impl Work<'_> {
             conditions: Some(self.conditions(Site::Arterial, "conditions", true, &mut map)),
             model: self.panel.model,
             unit_system: self.panel.unit_system,
+            // The FHIR operation offers no uncertainty (API.md section 9).
+            uncertainty: None,
         };
         let inputs = Self::condition_inputs(Site::Arterial);
         match compute_shift_factors(&request) {
@@ -794,6 +796,7 @@ haemoglobin fractions",
             cardiac_output: self.q(Input::CardiacOutput),
             hufner_factor_ml_per_g: None,
             unit_system: self.panel.unit_system,
+            uncertainty: None,
         };
         let venous_inputs: Vec<Input> = venous.map(|(_, i)| i).unwrap_or_default();
         let both: Vec<Input> = arterial_inputs
