@@ -17,6 +17,14 @@ pub const DEFAULT_LISTEN: &str = "127.0.0.1:50051";
 /// Default log filter (`tracing-subscriber` `EnvFilter` syntax).
 pub const DEFAULT_LOG_FILTER: &str = "info";
 
+/// Log lines that may wait for the log writer thread before new ones are
+/// dropped (and counted): at about 300 bytes a line, some 5 MiB at most, and
+/// a quarter of a second of the fastest calls (BENCHMARKS.md).
+pub const DEFAULT_LOG_QUEUE_LINES: usize = 16_384;
+
+/// The smallest log queue the server accepts.
+pub const MIN_LOG_QUEUE_LINES: usize = 16;
+
 /// Default time calls in flight get to finish after a shutdown signal.
 pub const DEFAULT_SHUTDOWN_GRACE: Duration = Duration::from_secs(10);
 
@@ -120,6 +128,8 @@ pub const ENV_LISTEN: &str = "OXBIND_LISTEN";
 pub const ENV_LOG_FORMAT: &str = "OXBIND_LOG_FORMAT";
 /// Environment variable for [`Config::log_filter`].
 pub const ENV_LOG_FILTER: &str = "OXBIND_LOG_FILTER";
+/// Environment variable for [`Config::log_queue_lines`].
+pub const ENV_LOG_QUEUE_LINES: &str = "OXBIND_LOG_QUEUE_LINES";
 /// Environment variable for [`Config::shutdown_grace`].
 pub const ENV_SHUTDOWN_GRACE: &str = "OXBIND_SHUTDOWN_GRACE";
 /// Environment variable for [`Config::max_batch_items`].
@@ -208,6 +218,13 @@ pub struct Config {
     #[arg(long, env = ENV_LOG_FILTER, default_value = DEFAULT_LOG_FILTER, value_name = "FILTER",
           value_parser = parse_log_filter)]
     pub log_filter: String,
+
+    /// Log lines waiting for the log writer thread at most; when it is full
+    /// (the log sink is slower than the calls), new lines are dropped and
+    /// counted, and no call ever waits for the log.
+    #[arg(long, env = ENV_LOG_QUEUE_LINES, value_name = "LINES",
+          default_value_t = DEFAULT_LOG_QUEUE_LINES, value_parser = parse_log_queue_lines)]
+    pub log_queue_lines: usize,
 
     /// Time calls in flight get to finish after SIGTERM or SIGINT (e.g. `10s`, `500ms`).
     #[arg(long, env = ENV_SHUTDOWN_GRACE, default_value = "10s", value_name = "DURATION",
@@ -525,6 +542,7 @@ impl Default for Config {
                 .expect("the default listen address parses"),
             log_format: LogFormat::Plain,
             log_filter: DEFAULT_LOG_FILTER.to_owned(),
+            log_queue_lines: DEFAULT_LOG_QUEUE_LINES,
             shutdown_grace: DEFAULT_SHUTDOWN_GRACE,
             max_batch_items: DEFAULT_MAX_BATCH_ITEMS,
             tls_cert: None,
@@ -589,6 +607,16 @@ fn parse_positive(text: &str) -> Result<usize, String> {
     match text.parse::<usize>() {
         Ok(0) => Err("must be at least 1".to_owned()),
         Ok(value) => Ok(value),
+        Err(e) => Err(format!("not a whole number ({e})")),
+    }
+}
+
+fn parse_log_queue_lines(text: &str) -> Result<usize, String> {
+    match text.parse::<usize>() {
+        Ok(lines) if lines < MIN_LOG_QUEUE_LINES => {
+            Err(format!("must be at least {MIN_LOG_QUEUE_LINES}"))
+        }
+        Ok(lines) => Ok(lines),
         Err(e) => Err(format!("not a whole number ({e})")),
     }
 }

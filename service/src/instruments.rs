@@ -68,6 +68,9 @@ pub(crate) struct Instruments {
     /// `oxbind.server.connections.closed`: connections the server closed,
     /// by listener and reason.
     pub(crate) connections_closed: Counter<u64>,
+    /// `oxbind.server.log.dropped_lines`: log lines dropped because the log
+    /// queue was full.
+    pub(crate) log_lines_dropped: Counter<u64>,
 }
 
 /// The instruments; created on first use, after `telemetry::init` set the provider.
@@ -114,6 +117,13 @@ pub(crate) fn instruments() -> &'static Instruments {
                     "Connections the server closed, by listener and reason (deadline, idle, age)",
                 )
                 .build(),
+            log_lines_dropped: meter
+                .u64_counter("oxbind.server.log.dropped_lines")
+                .with_unit("{line}")
+                .with_description(
+                    "Log lines dropped because the log queue was full (the log sink was slower than the calls)",
+                )
+                .build(),
         }
     })
 }
@@ -143,7 +153,11 @@ pub fn record_warnings(codes: &[&'static str]) {
             .warnings
             .add(1, &[KeyValue::new("oxbind.warning.code", *code)]);
     }
-    tracing::Span::current().record("oxbind.warning_codes", codes.join(",").as_str());
+    // Joined only for a span someone records (format nothing that is dropped).
+    let span = tracing::Span::current();
+    if !span.is_disabled() {
+        span.record("oxbind.warning_codes", codes.join(",").as_str());
+    }
 }
 
 /// Record the model a call used on the current call's span (attribute
@@ -158,6 +172,16 @@ pub fn record_model(model_id: &'static str) {
 /// Count one handler panic caught and answered INTERNAL.
 pub fn record_panic() {
     instruments().panics.add(1, &[]);
+}
+
+/// Count `lines` log lines dropped because the log queue was full (nothing
+/// for none).
+pub fn record_log_lines_dropped(lines: usize) {
+    if lines > 0 {
+        instruments()
+            .log_lines_dropped
+            .add(u64::try_from(lines).unwrap_or(u64::MAX), &[]);
+    }
 }
 
 /// Count one connection the server closed on `listener` (`main`, `health`)

@@ -27,6 +27,7 @@ pub mod http;
 pub mod identity;
 pub mod instruments;
 pub mod layers;
+pub mod log_queue;
 pub mod physiology;
 pub mod server;
 pub mod shutdown;

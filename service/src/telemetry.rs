@@ -11,30 +11,43 @@
 use opentelemetry::{trace::TracerProvider as _, KeyValue};
 use opentelemetry_sdk::{metrics::SdkMeterProvider, trace::SdkTracerProvider, Resource};
 use tracing_subscriber::{
-    filter::filter_fn, layer::SubscriberExt, util::SubscriberInitExt, EnvFilter, Layer, Registry,
+    filter::{filter_fn, FilterExt},
+    layer::SubscriberExt,
+    util::SubscriberInitExt,
+    EnvFilter, Layer, Registry,
 };
 
-use crate::config::LogFormat;
 pub use crate::instruments::{
     record_batch_items, record_model, record_refused_input, record_warnings, traces_exported,
     without_indices, CALL_LOG_TARGET, CALL_SPAN_TARGET, DURATION_BUCKETS_S, INSTRUMENTATION_SCOPE,
 };
+use crate::{config::LogFormat, log_queue::LogQueue};
+
+/// The log writer thread's buffer in front of standard error.
+const LOG_WRITE_BUFFER_BYTES: usize = 64 * 1024;
 
 /// `service.name` when `OTEL_SERVICE_NAME` does not set one.
 pub const DEFAULT_SERVICE_NAME: &str = "oxbind-server";
 
-/// The exporters [`init`] started; call [`Telemetry::shutdown`] before the
-/// process exits so the last spans and metrics are sent.
+/// The log queue and the exporters [`init`] started; call
+/// [`Telemetry::shutdown`] before the process exits so the last log lines,
+/// spans and metrics are written and sent.
 #[derive(Debug, Default)]
 pub struct Telemetry {
+    log_queue: Option<LogQueue>,
     tracer_provider: Option<SdkTracerProvider>,
     meter_provider: Option<SdkMeterProvider>,
 }
 
 impl Telemetry {
-    /// Flush and stop the exporters. Blocks while the last batch is sent: call
-    /// it from a blocking thread (e.g. `tokio::task::spawn_blocking`).
-    pub fn shutdown(self) {
+    /// Record the last count of dropped log lines, flush and stop the
+    /// exporters, then write out the log queue. Blocks while the last batch
+    /// is sent: call it from a blocking thread (e.g.
+    /// `tokio::task::spawn_blocking`).
+    pub fn shutdown(mut self) {
+        if let Some(queue) = self.log_queue.as_mut() {
+            queue.report_last();
+        }
         if let Some(provider) = self.tracer_provider {
             if let Err(error) = provider.shutdown() {
                 tracing::warn!(%error, "trace exporter did not shut down cleanly");
@@ -44,6 +57,9 @@ impl Telemetry {
             if let Err(error) = provider.shutdown() {
                 tracing::warn!(%error, "metric exporter did not shut down cleanly");
             }
+        }
+        if let Some(queue) = self.log_queue {
+            queue.close();
         }
     }
 }
@@ -77,7 +93,8 @@ impl ExportPlan {
     }
 }
 
-/// Install the global tracing subscriber (writing to standard error) and,
+/// Install the global tracing subscriber, writing to standard error through
+/// a queue of at most `log_queue_lines` lines ([`crate::log_queue`]), and,
 /// when the `OTEL_*` variables name an OTLP endpoint, the trace and metric
 /// exporters.
 ///
@@ -85,7 +102,7 @@ impl ExportPlan {
 /// validated by the config parser; should it still fail here, the default
 /// filter is used. Exporter set-up failures are logged and leave that signal
 /// off; they never stop the service.
-pub fn init(format: LogFormat, filter: &str) -> Telemetry {
+pub fn init(format: LogFormat, filter: &str, log_queue_lines: usize) -> Telemetry {
     let plan = ExportPlan::from_env(|name| std::env::var(name).ok());
     let resource = plan
         .traces
@@ -132,16 +149,28 @@ pub fn init(format: LogFormat, filter: &str) -> Telemetry {
 
     let filter = EnvFilter::try_new(filter)
         .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
+    // The writer thread writes what it finds queued in few system calls and
+    // flushes whenever the queue is empty, so no line waits in the buffer.
+    let sink = std::io::BufWriter::with_capacity(LOG_WRITE_BUFFER_BYTES, std::io::stderr());
+    let (writer, mut log_queue) = LogQueue::new(sink, log_queue_lines);
+    log_queue.watch();
+    // The log does not take the per-call span: its fields are on the call's
+    // own log line, and a span the log took would be formatted on every call
+    // (and again on every field recorded) for lines that almost never come.
+    // Without trace export nothing takes it, and it costs nothing.
+    let filter = filter.and(filter_fn(|meta| {
+        !(meta.is_span() && meta.target() == CALL_SPAN_TARGET)
+    }));
     let fmt_layer: Box<dyn Layer<Registry> + Send + Sync> = match format {
         LogFormat::Plain => tracing_subscriber::fmt::layer()
-            .with_writer(std::io::stderr)
+            .with_writer(writer)
             .with_ansi(colour_on_stderr())
             .with_filter(filter)
             .boxed(),
         LogFormat::Json => tracing_subscriber::fmt::layer()
             .json()
             .flatten_event(true)
-            .with_writer(std::io::stderr)
+            .with_writer(writer)
             .with_filter(filter)
             .boxed(),
     };
@@ -179,6 +208,7 @@ pub fn init(format: LogFormat, filter: &str) -> Telemetry {
     }
 
     Telemetry {
+        log_queue: Some(log_queue),
         tracer_provider,
         meter_provider,
     }
@@ -189,20 +219,6 @@ pub fn init(format: LogFormat, filter: &str) -> Telemetry {
 fn colour_on_stderr() -> bool {
     use std::io::IsTerminal;
     std::io::stderr().is_terminal()
-}
-
-/// Install only the log subscriber, as before OpenTelemetry export existed.
-pub fn init_tracing(format: LogFormat, filter: &str) {
-    let filter = EnvFilter::try_new(filter)
-        .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
-    let builder = tracing_subscriber::fmt()
-        .with_env_filter(filter)
-        .with_writer(std::io::stderr)
-        .with_ansi(colour_on_stderr());
-    match format {
-        LogFormat::Plain => builder.init(),
-        LogFormat::Json => builder.json().flatten_event(true).init(),
-    }
 }
 
 /// The service's resource: `OTEL_SERVICE_NAME` and `OTEL_RESOURCE_ATTRIBUTES`

@@ -89,6 +89,11 @@ impl ReportedSettings {
                 "which log lines are written",
             ),
             (
+                "log-queue-lines",
+                config.log_queue_lines.to_string(),
+                "log lines that may wait for the log writer before new ones are dropped",
+            ),
+            (
                 "shutdown-grace",
                 duration(config.shutdown_grace),
                 "time calls in flight get after SIGTERM or SIGINT",

@@ -24,7 +24,11 @@ async fn main() {
         eprintln!("error: {reason}");
         std::process::exit(EXIT_CONFIG_INVALID);
     }
-    let telemetry = telemetry::init(config.log_format, &config.log_filter);
+    let telemetry = telemetry::init(
+        config.log_format,
+        &config.log_filter,
+        config.log_queue_lines,
+    );
     panic::install_hook();
     // Install the signal handlers before anything can report "serving".
     let shutdown = shutdown_signal();
@@ -33,7 +37,7 @@ async fn main() {
         Ok(listener) => listener,
         Err(error) => {
             tracing::error!(listen = %config.listen, %error, "cannot bind the listen address");
-            std::process::exit(1);
+            exit(telemetry, 1).await;
         }
     };
     let health_listener = match config.health_listen {
@@ -41,24 +45,30 @@ async fn main() {
             Ok(listener) => Some(listener),
             Err(error) => {
                 tracing::error!(health_listen = %address, %error, "cannot bind the health listen address");
-                std::process::exit(1);
+                exit(telemetry, 1).await;
             }
         },
         None => None,
     };
 
     let result = serve_on(listener, health_listener, config, shutdown).await;
-    // Send the last spans and metrics before exiting.
-    let _ = tokio::task::spawn_blocking(move || telemetry.shutdown()).await;
-    match result {
-        Ok(()) => {}
+    let code = match result {
+        Ok(()) => 0,
         Err(error @ ServeError::Tls(_)) => {
             tracing::error!(%error, "invalid TLS configuration");
-            std::process::exit(EXIT_CONFIG_INVALID);
+            EXIT_CONFIG_INVALID
         }
         Err(error) => {
             tracing::error!(%error, "server failed");
-            std::process::exit(1);
+            1
         }
-    }
+    };
+    exit(telemetry, code).await;
+}
+
+/// Send the last spans and metrics, write out the log queue, and exit with
+/// `code`.
+async fn exit(telemetry: telemetry::Telemetry, code: i32) -> ! {
+    let _ = tokio::task::spawn_blocking(move || telemetry.shutdown()).await;
+    std::process::exit(code);
 }

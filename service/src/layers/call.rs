@@ -311,18 +311,31 @@ impl Drop for CallRecord {
             .record(elapsed.as_secs_f64(), &attributes);
         instruments.calls.add(1, &attributes);
 
+        // The fields are formatted only if the level filter keeps the line
+        // (`%` defers to Display), and then into the log queue, never by a
+        // write on this thread (crate::log_queue).
         let latency_ms = elapsed.as_secs_f64() * 1e3;
-        let trace_id = if self.trace_id == TraceId::INVALID {
-            String::new()
-        } else {
-            self.trace_id.to_string()
-        };
+        let trace_id = LoggedTraceId(self.trace_id);
         if self.quiet {
             tracing::debug!(target: CALL_LOG_TARGET, method = self.method, status = name,
-                latency_ms, request_id = %self.request_id, trace_id, "call");
+                latency_ms, request_id = %self.request_id, trace_id = %trace_id, "call");
         } else {
             tracing::info!(target: CALL_LOG_TARGET, method = self.method, status = name,
-                latency_ms, request_id = %self.request_id, trace_id, "call");
+                latency_ms, request_id = %self.request_id, trace_id = %trace_id, "call");
+        }
+    }
+}
+
+/// A trace id as the access line shows it: 32 hex digits, or nothing when
+/// the call joined no trace.
+struct LoggedTraceId(TraceId);
+
+impl std::fmt::Display for LoggedTraceId {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        if self.0 == TraceId::INVALID {
+            Ok(())
+        } else {
+            write!(f, "{}", self.0)
         }
     }
 }
