@@ -10,11 +10,13 @@
 
 use opentelemetry::{trace::TracerProvider as _, KeyValue};
 use opentelemetry_sdk::{metrics::SdkMeterProvider, trace::SdkTracerProvider, Resource};
+use tracing_appender::non_blocking::NonBlocking;
 use tracing_subscriber::{
     filter::{filter_fn, FilterExt},
     layer::SubscriberExt,
+    registry::LookupSpan,
     util::SubscriberInitExt,
-    EnvFilter, Layer, Registry,
+    EnvFilter, Layer,
 };
 
 pub use crate::instruments::{
@@ -147,50 +149,47 @@ pub fn init(format: LogFormat, filter: &str, log_queue_lines: usize) -> Telemetr
         _ => None,
     };
 
-    let filter = EnvFilter::try_new(filter)
-        .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
     // The writer thread writes what it finds queued in few system calls and
     // flushes whenever the queue is empty, so no line waits in the buffer.
     let sink = std::io::BufWriter::with_capacity(LOG_WRITE_BUFFER_BYTES, std::io::stderr());
     let (writer, mut log_queue) = LogQueue::new(sink, log_queue_lines);
     log_queue.watch();
+
     // The log does not take the per-call span: its fields are on the call's
     // own log line, and a span the log took would be formatted on every call
     // (and again on every field recorded) for lines that almost never come.
-    // Without trace export nothing takes it, and it costs nothing.
-    let filter = filter.and(filter_fn(|meta| {
-        !(meta.is_span() && meta.target() == CALL_SPAN_TARGET)
-    }));
-    let fmt_layer: Box<dyn Layer<Registry> + Send + Sync> = match format {
-        LogFormat::Plain => tracing_subscriber::fmt::layer()
-            .with_writer(writer)
-            .with_ansi(colour_on_stderr())
-            .with_filter(filter)
-            .boxed(),
-        LogFormat::Json => tracing_subscriber::fmt::layer()
-            .json()
-            .flatten_event(true)
-            .with_writer(writer)
-            .with_filter(filter)
-            .boxed(),
-    };
-    // Only the per-call span is exported: events (which might one day carry
-    // a value at debug level) and other spans stay out of the traces.
-    let otel_layer = tracer_provider.as_ref().map(|provider| {
-        tracing_opentelemetry::layer()
-            .with_tracer(provider.tracer(INSTRUMENTATION_SCOPE))
-            .with_location(false)
-            .with_threads(false)
-            .with_level(false)
-            .with_target(false)
-            .with_filter(filter_fn(|meta| {
-                meta.is_span() && meta.target() == CALL_SPAN_TARGET
-            }))
-    });
-    tracing_subscriber::registry()
-        .with(fmt_layer)
-        .with(otel_layer)
-        .init();
+    match &tracer_provider {
+        // Without trace export nobody takes the span, so one filter for the
+        // whole process turns it off with everything the level filter drops:
+        // those callsites are then off for good, and cost nothing per call.
+        None => tracing_subscriber::registry()
+            .with(log_filter(filter, false))
+            .with(fmt_layer(format, writer))
+            .init(),
+        // Only the per-call span is exported: events (which might one day
+        // carry a value at debug level) and other spans stay out of the
+        // traces.
+        Some(provider) => {
+            let not_call_span =
+                filter_fn(|meta| !(meta.is_span() && meta.target() == CALL_SPAN_TARGET));
+            let otel_layer = tracing_opentelemetry::layer()
+                .with_tracer(provider.tracer(INSTRUMENTATION_SCOPE))
+                .with_location(false)
+                .with_threads(false)
+                .with_level(false)
+                .with_target(false)
+                .with_filter(filter_fn(|meta| {
+                    meta.is_span() && meta.target() == CALL_SPAN_TARGET
+                }));
+            tracing_subscriber::registry()
+                .with(
+                    fmt_layer(format, writer)
+                        .with_filter(log_filter(filter, true).and(not_call_span)),
+                )
+                .with(otel_layer)
+                .init();
+        }
+    }
 
     if let Some(provider) = &meter_provider {
         opentelemetry::global::set_meter_provider(provider.clone());
@@ -211,6 +210,40 @@ pub fn init(format: LogFormat, filter: &str, log_queue_lines: usize) -> Telemetr
         log_queue: Some(log_queue),
         tracer_provider,
         meter_provider,
+    }
+}
+
+/// The log's level filter from `--log-filter` (validated by the config
+/// parser; should it still fail here, the default), with the per-call span
+/// turned off unless `keep_call_span` (for the trace exporter).
+fn log_filter(filter: &str, keep_call_span: bool) -> EnvFilter {
+    let filter = EnvFilter::try_new(filter)
+        .unwrap_or_else(|_| EnvFilter::new(crate::config::DEFAULT_LOG_FILTER));
+    if keep_call_span {
+        filter
+    } else {
+        let off = format!("{CALL_SPAN_TARGET}=off")
+            .parse()
+            .expect("a target directive parses");
+        filter.add_directive(off)
+    }
+}
+
+/// The log line formatter, plain or JSON, writing to `writer`.
+fn fmt_layer<S>(format: LogFormat, writer: NonBlocking) -> Box<dyn Layer<S> + Send + Sync>
+where
+    S: tracing::Subscriber + for<'a> LookupSpan<'a>,
+{
+    match format {
+        LogFormat::Plain => tracing_subscriber::fmt::layer()
+            .with_writer(writer)
+            .with_ansi(colour_on_stderr())
+            .boxed(),
+        LogFormat::Json => tracing_subscriber::fmt::layer()
+            .json()
+            .flatten_event(true)
+            .with_writer(writer)
+            .boxed(),
     }
 }
 
