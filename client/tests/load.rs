@@ -1,6 +1,7 @@
-//! `oxbind-load` against a real in-process server, for about a second in
+//! `oxbind-load` against a real in-process server, for a few seconds in
 //! all: the JSON report's shape and counts, the baseline ratio, batch mode's
-//! item counts and sizes, the `--max-calls` bound, and the usage errors.
+//! item counts and sizes, the `--max-calls` bound, the Connect protocol in
+//! JSON and protobuf, refusals counted as errors, and the usage errors.
 //! No timing is asserted: speed figures live in BENCHMARKS.md.
 
 mod common;
@@ -11,19 +12,27 @@ use serde_json::Value;
 
 /// The report of `oxbind-load --json ARGS` against `server`.
 fn load(server: &Server, args: &[&str]) -> Value {
+    let (code, report) = load_with_status(server, args);
+    assert_eq!(code, Some(0), "{report}");
+    report
+}
+
+/// The exit status and report of `oxbind-load --json ARGS` against `server`.
+fn load_with_status(server: &Server, args: &[&str]) -> (Option<i32>, Value) {
     let output = server
         .oxbind_load()
         .arg("--json")
         .args(args)
         .output()
         .unwrap();
-    assert!(
-        output.status.success(),
-        "exit {:?}: {}",
-        output.status.code(),
-        String::from_utf8_lossy(&output.stderr)
-    );
-    serde_json::from_slice(&output.stdout).expect("stdout is JSON")
+    let report = serde_json::from_slice(&output.stdout).unwrap_or_else(|e| {
+        panic!(
+            "exit {:?}, stdout is not JSON ({e}): {}",
+            output.status.code(),
+            String::from_utf8_lossy(&output.stderr)
+        )
+    });
+    (output.status.code(), report)
 }
 
 fn f(value: &Value) -> f64 {
@@ -88,6 +97,10 @@ fn saturation_with_baseline_reports_both_and_their_ratio() {
         "oxbind.v1.DissociationService/SaturationFromTension"
     );
     assert_eq!(baseline["rpc"], "grpc.health.v1.Health/Check");
+    for phase in [result, baseline] {
+        assert_eq!(phase["protocol"], "grpc", "{report}");
+        assert_eq!(phase["encoding"], "proto", "{report}");
+    }
     assert_eq!(result["inFlight"], 4);
     assert_eq!(baseline["connections"], 2);
     check_consistent(result);
@@ -190,6 +203,137 @@ fn shared_provenance_and_po2_only_shrink_the_messages() {
     );
 }
 
+/// The same RPC through the Connect protocol, in JSON and in binary
+/// protobuf: calls made, none failed, and the report names the protocol and
+/// encoding. The baseline stays gRPC's Health/Check.
+#[test]
+fn connect_drives_saturation_in_json_and_proto() {
+    let server = Server::start();
+    for encoding in ["json", "proto"] {
+        let report = load(
+            &server,
+            &[
+                "--protocol",
+                "connect",
+                "--encoding",
+                encoding,
+                "--rpc",
+                "saturation",
+                "--in-flight",
+                "4",
+                "--connections",
+                "2",
+                "--warm-up",
+                "0.1",
+                "--duration",
+                "0.3",
+                "--baseline",
+            ],
+        );
+        let result = &report["result"];
+        assert_eq!(result["protocol"], "connect", "{report}");
+        assert_eq!(result["encoding"], encoding, "{report}");
+        assert_eq!(
+            result["rpc"],
+            "oxbind.v1.DissociationService/SaturationFromTension"
+        );
+        assert_eq!(result["connections"], 2);
+        check_consistent(result);
+        let baseline = &report["baseline"];
+        assert_eq!(baseline["rpc"], "grpc.health.v1.Health/Check");
+        assert_eq!(baseline["protocol"], "grpc", "{report}");
+        check_consistent(baseline);
+    }
+}
+
+/// `--encoding` defaults to JSON with Connect; a batch's items are counted
+/// and every one computes in either encoding, and the same generated batch
+/// (same seed) is larger in JSON than in protobuf.
+#[test]
+fn connect_batches_count_items_in_either_encoding() {
+    let server = Server::start();
+    let run = |extra: &[&str]| {
+        let mut args = vec![
+            "--protocol",
+            "connect",
+            "--rpc",
+            "batch-saturation",
+            "--items",
+            "20",
+            "--in-flight",
+            "2",
+            "--connections",
+            "1",
+            "--warm-up",
+            "0",
+            "--duration",
+            "0.3",
+            "--seed",
+            "7",
+        ];
+        args.extend_from_slice(extra);
+        let report = load(&server, &args);
+        let result = report["result"].clone();
+        check_consistent(&result);
+        assert_eq!(result["itemsPerCall"], 20);
+        assert_eq!(result["itemErrors"], serde_json::json!({}), "{report}");
+        result
+    };
+    let json = run(&[]);
+    assert_eq!(json["encoding"], "json", "{json}");
+    let proto = run(&["--encoding", "proto"]);
+    assert_eq!(proto["encoding"], "proto", "{proto}");
+    assert!(
+        f(&json["requestBytesPerItem"]) > f(&proto["requestBytesPerItem"]),
+        "{json} {proto}"
+    );
+    assert!(
+        f(&json["responseBytesPerItem"]) > f(&proto["responseBytesPerItem"]),
+        "{json} {proto}"
+    );
+}
+
+/// A server's refusal is an error counted by its code, over gRPC and over
+/// Connect alike: a batch one item over the server's default limit of
+/// 10,000 is refused as INVALID_ARGUMENT (reason BATCH_TOO_LARGE), no call
+/// succeeds, the report says so, and the exit status is 1.
+#[test]
+fn a_refused_call_is_counted_as_an_error_in_every_protocol() {
+    let server = Server::start();
+    for protocol in [
+        &["--protocol", "grpc"][..],
+        &["--protocol", "connect", "--encoding", "json"],
+        &["--protocol", "connect", "--encoding", "proto"],
+    ] {
+        let mut args = protocol.to_vec();
+        args.extend_from_slice(&[
+            "--rpc",
+            "batch-saturation",
+            "--items",
+            "10001",
+            "--in-flight",
+            "1",
+            "--connections",
+            "1",
+            "--warm-up",
+            "0",
+            "--duration",
+            "10",
+            "--max-calls",
+            "2",
+        ]);
+        let (code, report) = load_with_status(&server, &args);
+        assert_eq!(code, Some(1), "{args:?}: {report}");
+        let result = &report["result"];
+        assert_eq!(result["callsOk"], 0, "{report}");
+        assert_eq!(
+            result["errors"],
+            serde_json::json!({"INVALID_ARGUMENT": 2}),
+            "{args:?}: {report}"
+        );
+    }
+}
+
 #[test]
 fn max_calls_bounds_the_count() {
     let server = Server::start();
@@ -222,6 +366,11 @@ fn bad_settings_are_usage_errors() {
         &["--in-flight", "0"],
         &["--timeout", "0s"],
         &["--server", "https://127.0.0.1:1"],
+        &["--protocol", "http"],
+        &["--protocol", "grpc", "--encoding", "json"],
+        &["--encoding", "json"],
+        &["--protocol", "connect", "--rpc", "health"],
+        &["--protocol", "connect", "--encoding", "text"],
     ] {
         Command::cargo_bin("oxbind-load")
             .unwrap()

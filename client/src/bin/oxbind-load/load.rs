@@ -1,7 +1,8 @@
 //! `oxbind-load`: a closed-loop load generator for one RPC.
 //!
 //! `--in-flight` tasks share `--connections` HTTP/2 connections (one tonic
-//! channel each, task `i` on connection `i mod C`). Each task sends one
+//! channel each for gRPC, one HTTP client each for `--protocol connect`;
+//! task `i` on connection `i mod C`). Each task sends one
 //! call, waits for the answer, and sends the next. Before the first call each
 //! task draws its own distinct requests from its seeded generator (1,024
 //! single calls, or 50,000 batch items as 2 to 16 batches) and encodes them
@@ -14,7 +15,13 @@
 //! ends (its last call is awaited, bounded by `--timeout`, and not counted).
 //! `--max-calls` bounds the count as well. With `--baseline`,
 //! `grpc.health.v1.Health/Check` is driven the same way on the same server
-//! just before, and the ratio of call rates is printed.
+//! just before, always over gRPC (the health service has no Connect form),
+//! and the ratio of call rates is printed: with either protocol the
+//! denominator is the same call, so the ratios of a gRPC run and a Connect
+//! run compare directly.
+//!
+//! `--protocol connect` sends the same requests (the same seeds) as Connect
+//! unary calls (`load_connect`), in JSON (`load_json`) or binary protobuf.
 //!
 //! Only plaintext HTTP/2 (loopback or the `--server` given): the figures
 //! are for the service, not for TLS.
@@ -35,12 +42,13 @@ use oxbind_client::{
     code_name,
     health::HealthCheckRequest,
     v1::{
-        BatchSaturationFromTensionRequest, BloodConditions, ProvenancePlacement, Quantity,
-        SaturationFromTensionRequest,
+        BatchSaturationFromTensionRequest, BloodConditions, ListModelsRequest, ProvenancePlacement,
+        Quantity, SaturationFromTensionRequest,
     },
     Code,
 };
 use prost::bytes::Bytes;
+use serde::Serialize;
 use serde_json::json;
 use tonic::{
     codegen::http::uri::PathAndQuery,
@@ -48,6 +56,7 @@ use tonic::{
 };
 
 use crate::{
+    load_connect, load_json,
     load_wire::{self, BadAnswer, EncodedCodec},
     Failure,
 };
@@ -58,10 +67,19 @@ pub(crate) struct LoadArgs {
     /// The RPC to drive.
     #[arg(long, value_enum, default_value_t = LoadRpc::Saturation)]
     pub(crate) rpc: LoadRpc,
+    /// The protocol of the calls: gRPC, or the Connect protocol's unary
+    /// POST (API.md section 8) on the same port, over HTTP/2 without TLS.
+    #[arg(long, value_enum, default_value_t = Protocol::Grpc)]
+    pub(crate) protocol: Protocol,
+    /// Message encoding with `--protocol connect` (default json); gRPC calls
+    /// are always proto.
+    #[arg(long, value_enum)]
+    pub(crate) encoding: Option<Encoding>,
     /// Calls in flight at once (one closed-loop task each).
     #[arg(long, default_value_t = 64, value_parser = clap::value_parser!(u32).range(1..=10_000))]
     pub(crate) in_flight: u32,
-    /// HTTP/2 connections the calls share (one tonic channel each).
+    /// HTTP/2 connections the calls share (one tonic channel, or with
+    /// `--protocol connect` one HTTP client, each).
     #[arg(long, default_value_t = 4, value_parser = clap::value_parser!(u32).range(1..=256))]
     pub(crate) connections: u32,
     /// Length of the measured window, in seconds (at most 600).
@@ -88,7 +106,9 @@ pub(crate) struct LoadArgs {
     #[arg(long, default_value_t = 1)]
     pub(crate) seed: u64,
     /// Also drive `grpc.health.v1.Health/Check` with the same settings, just
-    /// before, and print the ratio of call rates.
+    /// before, and print the ratio of call rates. The baseline is always
+    /// over gRPC, also with `--protocol connect` (the health service has no
+    /// Connect form), so that every ratio has the same denominator.
     #[arg(long)]
     pub(crate) baseline: bool,
     /// Process id of the server, when it runs on this machine: the report
@@ -96,8 +116,9 @@ pub(crate) struct LoadArgs {
     /// (from `/proc/PID/task/*/schedstat`) and its VmRSS and VmHWM after it.
     #[arg(long, value_name = "PID")]
     pub(crate) server_pid: Option<u32>,
-    /// Largest response message the client decodes, in bytes (a 10,000-item
-    /// batch answer is larger than tonic's default of 4 MiB).
+    /// Largest response message a gRPC call decodes, in bytes (a 10,000-item
+    /// batch answer is larger than tonic's default of 4 MiB). A Connect
+    /// answer is read whole.
     #[arg(long, default_value_t = 256 * 1024 * 1024, value_name = "BYTES")]
     pub(crate) max_decoding_message_bytes: usize,
 }
@@ -111,6 +132,59 @@ pub(crate) enum LoadRpc {
     BatchSaturation,
     /// `grpc.health.v1.Health/Check` for the whole server.
     Health,
+}
+
+/// The protocols `oxbind-load` can speak.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub(crate) enum Protocol {
+    /// gRPC over HTTP/2.
+    Grpc,
+    /// The Connect protocol's unary form (`POST /<service>/<method>`, a bare
+    /// message body), over HTTP/2.
+    Connect,
+}
+
+impl Protocol {
+    fn name(self) -> &'static str {
+        match self {
+            Protocol::Grpc => "grpc",
+            Protocol::Connect => "connect",
+        }
+    }
+}
+
+/// The message encodings of `--protocol connect`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
+pub(crate) enum Encoding {
+    /// `application/json`: the proto3 JSON mapping.
+    Json,
+    /// `application/proto`: binary protobuf.
+    Proto,
+}
+
+impl Encoding {
+    fn name(self) -> &'static str {
+        match self {
+            Encoding::Json => "json",
+            Encoding::Proto => "proto",
+        }
+    }
+
+    /// The Connect `content-type` of requests and of successful answers.
+    pub(crate) fn content_type(self) -> &'static str {
+        match self {
+            Encoding::Json => "application/json",
+            Encoding::Proto => "application/proto",
+        }
+    }
+
+    /// Encode a v1 request once, for sending as it is.
+    fn encode<M: prost::Message + Serialize>(self, message: &M) -> Bytes {
+        match self {
+            Encoding::Json => load_json::encode(message),
+            Encoding::Proto => load_wire::encode(message),
+        }
+    }
 }
 
 impl LoadRpc {
@@ -162,6 +236,8 @@ const HISTOGRAM_SIGFIGS: u8 = 3;
 #[derive(Debug)]
 struct Report {
     rpc: LoadRpc,
+    protocol: Protocol,
+    encoding: Encoding,
     in_flight: u32,
     connections: u32,
     items_per_call: u32,
@@ -249,6 +325,8 @@ impl Report {
             |bytes: Option<usize>| bytes.map(|b| b as f64 / f64::from(self.items_per_call.max(1)));
         json!({
             "rpc": self.rpc.method(),
+            "protocol": self.protocol.name(),
+            "encoding": self.encoding.name(),
             "inFlight": self.in_flight,
             "connections": self.connections,
             "itemsPerCall": self.items_per_call,
@@ -281,6 +359,15 @@ impl Report {
     fn rows(&self) -> Vec<(String, String)> {
         let mut rows = vec![
             ("rpc".to_string(), self.rpc.method().to_string()),
+            (
+                "protocol".to_string(),
+                match self.protocol {
+                    Protocol::Grpc => "gRPC (application/grpc, HTTP/2)".to_string(),
+                    Protocol::Connect => {
+                        format!("Connect ({}, HTTP/2)", self.encoding.content_type())
+                    }
+                },
+            ),
             (
                 "in flight / connections".to_string(),
                 format!("{} / {}", self.in_flight, self.connections),
@@ -372,13 +459,45 @@ pub(crate) async fn run(ctx: &LoadContext, args: &LoadArgs) -> Result<(), Failur
             "oxbind-load speaks plaintext HTTP/2 only: give --server http://HOST:PORT".into(),
         ));
     }
-    let channels = open_channels(&ctx.server, args.connections).await?;
-    let baseline = if args.baseline && args.rpc != LoadRpc::Health {
-        Some(drive(ctx, args, LoadRpc::Health, &channels).await)
+    let encoding = match (args.protocol, args.encoding) {
+        (Protocol::Grpc, Some(Encoding::Json)) => {
+            return Err(Failure::Usage(
+                "--encoding json needs --protocol connect: gRPC calls are proto".into(),
+            ))
+        }
+        (Protocol::Grpc, _) => Encoding::Proto,
+        (Protocol::Connect, encoding) => encoding.unwrap_or(Encoding::Json),
+    };
+    if args.protocol == Protocol::Connect && args.rpc == LoadRpc::Health {
+        return Err(Failure::Usage(
+            "--rpc health is grpc.health.v1, which has no Connect form: use --protocol grpc".into(),
+        ));
+    }
+    let wants_baseline = args.baseline && args.rpc != LoadRpc::Health;
+    let channels = if args.protocol == Protocol::Grpc || wants_baseline {
+        open_channels(&ctx.server, args.connections).await?
+    } else {
+        Vec::new()
+    };
+    let connections = match args.protocol {
+        Protocol::Grpc => Connections::Grpc(channels.clone()),
+        Protocol::Connect => Connections::Connect {
+            clients: load_connect::open_clients(
+                &ctx.server,
+                args.connections,
+                encoding,
+                encoding.encode(&ListModelsRequest {}),
+            )
+            .await?,
+            encoding,
+        },
+    };
+    let baseline = if wants_baseline {
+        Some(drive(ctx, args, LoadRpc::Health, &Connections::Grpc(channels)).await)
     } else {
         None
     };
-    let report = drive(ctx, args, args.rpc, &channels).await;
+    let report = drive(ctx, args, args.rpc, &connections).await;
     print(ctx, &report, baseline.as_ref());
     if report.calls_ok == 0 {
         return Err(Failure::Other(format!(
@@ -387,6 +506,85 @@ pub(crate) async fn run(ctx: &LoadContext, args: &LoadArgs) -> Result<(), Failur
         )));
     }
     Ok(())
+}
+
+/// The open connections of one protocol.
+enum Connections {
+    /// gRPC: one tonic channel a connection.
+    Grpc(Vec<Channel>),
+    /// Connect: one HTTP/2 client a connection, and the message encoding.
+    Connect {
+        clients: Vec<reqwest::Client>,
+        encoding: Encoding,
+    },
+}
+
+impl Connections {
+    fn protocol(&self) -> Protocol {
+        match self {
+            Connections::Grpc(_) => Protocol::Grpc,
+            Connections::Connect { .. } => Protocol::Connect,
+        }
+    }
+
+    fn encoding(&self) -> Encoding {
+        match self {
+            Connections::Grpc(_) => Encoding::Proto,
+            Connections::Connect { encoding, .. } => *encoding,
+        }
+    }
+
+    /// The caller of `rpc` for task `task`, on connection `task mod C`.
+    fn caller(&self, ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, task: u32) -> Caller {
+        match self {
+            Connections::Grpc(channels) => Caller::Grpc {
+                grpc: tonic::client::Grpc::new(channels[task as usize % channels.len()].clone())
+                    .max_decoding_message_size(args.max_decoding_message_bytes)
+                    .max_encoding_message_size(usize::MAX),
+                path: PathAndQuery::from_static(rpc.path()),
+            },
+            Connections::Connect { clients, encoding } => {
+                Caller::Connect(load_connect::Caller::new(
+                    clients[task as usize % clients.len()].clone(),
+                    &ctx.server,
+                    rpc.path(),
+                    *encoding,
+                    ctx.timeout,
+                ))
+            }
+        }
+    }
+}
+
+/// One task's way of making a call.
+enum Caller {
+    Grpc {
+        grpc: tonic::client::Grpc<Channel>,
+        path: PathAndQuery,
+    },
+    Connect(load_connect::Caller),
+}
+
+impl Caller {
+    /// Send one encoded request; the encoded answer, or the label of the
+    /// error it is counted under.
+    async fn call(&mut self, body: &Bytes, timeout: Duration) -> Result<Bytes, &'static str> {
+        match self {
+            Caller::Grpc { grpc, path } => {
+                let mut request = tonic::Request::new(body.clone());
+                request.set_timeout(timeout);
+                match grpc.ready().await {
+                    Ok(()) => grpc
+                        .unary(request, path.clone(), EncodedCodec)
+                        .await
+                        .map(tonic::Response::into_inner)
+                        .map_err(|s| code_name(s.code())),
+                    Err(_) => Err(code_name(Code::Unavailable)),
+                }
+            }
+            Caller::Connect(caller) => caller.call(body.clone()).await,
+        }
+    }
 }
 
 async fn open_channels(server: &str, count: u32) -> Result<Vec<Channel>, Failure> {
@@ -420,7 +618,12 @@ fn new_histogram() -> Histogram<u64> {
         .expect("constant histogram bounds are valid")
 }
 
-async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Channel]) -> Report {
+async fn drive(
+    ctx: &LoadContext,
+    args: &LoadArgs,
+    rpc: LoadRpc,
+    connections: &Connections,
+) -> Report {
     let start = Instant::now();
     let measure_from = start + Duration::from_secs_f64(args.warm_up);
     let measure_until = measure_from + Duration::from_secs_f64(args.duration);
@@ -437,7 +640,8 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
     for i in 0..args.in_flight {
         let task = Task {
             rpc,
-            channel: channels[i as usize % channels.len()].clone(),
+            caller: connections.caller(ctx, args, rpc, i),
+            encoding: connections.encoding(),
             rng: fastrand::Rng::with_seed(args.seed.wrapping_add(u64::from(i))),
             model: ctx.model,
             items: args.items,
@@ -448,7 +652,6 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
                 ProvenancePlacement::EachItem
             },
             timeout: ctx.timeout,
-            max_decoding: args.max_decoding_message_bytes,
             measure_from,
             measure_until,
             budget: budget.clone(),
@@ -457,6 +660,8 @@ async fn drive(ctx: &LoadContext, args: &LoadArgs, rpc: LoadRpc, channels: &[Cha
     }
     let mut report = Report {
         rpc,
+        protocol: connections.protocol(),
+        encoding: connections.encoding(),
         in_flight: args.in_flight,
         connections: args.connections,
         items_per_call: if rpc == LoadRpc::BatchSaturation {
@@ -520,14 +725,14 @@ fn merge(into: &mut BTreeMap<&'static str, u64>, from: &BTreeMap<&'static str, u
 /// One closed-loop caller.
 struct Task {
     rpc: LoadRpc,
-    channel: Channel,
+    caller: Caller,
+    encoding: Encoding,
     rng: fastrand::Rng,
     model: i32,
     items: u32,
     placement: ProvenancePlacement,
     po2_only: bool,
     timeout: Duration,
-    max_decoding: usize,
     measure_from: Instant,
     measure_until: Instant,
     budget: Arc<AtomicU64>,
@@ -545,25 +750,12 @@ impl Task {
         // Built before the first call, so that the window measures calls, not
         // the generator.
         let pool = self.encoded_requests();
-        let path = PathAndQuery::from_static(self.rpc.path());
-        let mut grpc = tonic::client::Grpc::new(self.channel.clone())
-            .max_decoding_message_size(self.max_decoding)
-            .max_encoding_message_size(usize::MAX);
         for body in pool.iter().cycle() {
             let sent = Instant::now();
             if sent >= self.measure_until {
                 break;
             }
-            let mut request = tonic::Request::new(body.clone());
-            request.set_timeout(self.timeout);
-            let answer = match grpc.ready().await {
-                Ok(()) => grpc
-                    .unary(request, path.clone(), EncodedCodec)
-                    .await
-                    .map(tonic::Response::into_inner)
-                    .map_err(|s| code_name(s.code())),
-                Err(_) => Err(code_name(Code::Unavailable)),
-            };
+            let answer = self.caller.call(body, self.timeout).await;
             let done = Instant::now();
             let measured = done >= self.measure_from && done <= self.measure_until;
             let outcome = answer.and_then(|answer| {
@@ -606,16 +798,20 @@ impl Task {
                 service: String::new(),
             })],
             LoadRpc::Saturation => (0..SINGLE_REQUESTS_PER_TASK)
-                .map(|_| load_wire::encode(&self.saturation_request()))
+                .map(|_| {
+                    let request = self.saturation_request();
+                    self.encoding.encode(&request)
+                })
                 .collect(),
             LoadRpc::BatchSaturation => {
                 let batches = (BATCH_ITEMS_PER_TASK / self.items as usize).clamp(2, 16);
                 (0..batches)
                     .map(|_| {
-                        load_wire::encode(&BatchSaturationFromTensionRequest {
+                        let batch = BatchSaturationFromTensionRequest {
                             requests: (0..self.items).map(|_| self.saturation_request()).collect(),
                             provenance_placement: self.placement as i32,
-                        })
+                        };
+                        self.encoding.encode(&batch)
                     })
                     .collect()
             }
@@ -631,9 +827,15 @@ impl Task {
     ) -> Result<(), BadAnswer> {
         match self.rpc {
             LoadRpc::Health => load_wire::check_health_response(answer),
-            LoadRpc::Saturation => load_wire::check_saturation_response(answer),
+            LoadRpc::Saturation => match self.encoding {
+                Encoding::Proto => load_wire::check_saturation_response(answer),
+                Encoding::Json => load_json::check_saturation_response(answer),
+            },
             LoadRpc::BatchSaturation => {
-                let items = load_wire::check_batch_response(answer)?;
+                let items = match self.encoding {
+                    Encoding::Proto => load_wire::check_batch_response(answer)?,
+                    Encoding::Json => load_json::check_batch_response(answer)?,
+                };
                 if let Some(errors) = item_errors {
                     if items.items() != u64::from(self.items) {
                         *errors.entry("WRONG_RESULT_COUNT").or_default() += 1;
@@ -716,7 +918,7 @@ fn print(ctx: &LoadContext, report: &Report, baseline: Option<&Report>) {
     let mut rows = report.rows();
     if let (Some(b), Some(ratio)) = (baseline, ratio) {
         rows.push((
-            "baseline Health/Check calls/s".into(),
+            "baseline Health/Check (gRPC) calls/s".into(),
             format!("{:.0}", b.calls_per_second()),
         ));
         rows.push((

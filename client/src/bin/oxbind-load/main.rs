@@ -1,12 +1,16 @@
 //! `oxbind-load`: the load generator behind BENCHMARKS.md, a tool for
 //! measuring a deployment, not an integrator's command (that is `oxbind`).
 //!
-//! It drives one RPC with many calls in flight over plaintext HTTP/2 and
-//! reports calls/s, latency quantiles and errors, as a table or as JSON.
+//! It drives one RPC with many calls in flight over plaintext HTTP/2, as gRPC
+//! calls or (`--protocol connect`) as Connect calls in JSON or binary
+//! protobuf, and reports calls/s, latency quantiles and errors, as a table
+//! or as JSON.
 //! Exit status: 0 success, 1 no call succeeded (or another failure), 2 usage
 //! error.
 
 mod load;
+mod load_connect;
+mod load_json;
 mod load_wire;
 #[path = "../common/model_arg.rs"]
 mod model_arg;
@@ -18,8 +22,9 @@ use model_arg::{duration, ModelArg};
 use oxbind_client::{v1::Model, DEFAULT_SERVER};
 
 /// Load generator for an Oxbind server: drive one RPC with many calls in
-/// flight and report calls/s, latency quantiles and errors (plaintext HTTP/2
-/// only; the figures are the service's, not TLS's).
+/// flight, over gRPC or the Connect protocol, and report calls/s, latency
+/// quantiles and errors (plaintext HTTP/2 only; the figures are the
+/// service's, not TLS's).
 #[derive(Debug, Parser)]
 #[command(name = "oxbind-load", version)]
 struct Cli {
