@@ -25,9 +25,6 @@ pub use crate::instruments::{
 };
 use crate::{config::LogFormat, log_queue::LogQueue};
 
-/// The log writer thread's buffer in front of standard error.
-const LOG_WRITE_BUFFER_BYTES: usize = 64 * 1024;
-
 /// `service.name` when `OTEL_SERVICE_NAME` does not set one.
 pub const DEFAULT_SERVICE_NAME: &str = "oxbind-server";
 
@@ -149,10 +146,7 @@ pub fn init(format: LogFormat, filter: &str, log_queue_lines: usize) -> Telemetr
         _ => None,
     };
 
-    // The writer thread writes what it finds queued in few system calls and
-    // flushes whenever the queue is empty, so no line waits in the buffer.
-    let sink = std::io::BufWriter::with_capacity(LOG_WRITE_BUFFER_BYTES, std::io::stderr());
-    let (writer, mut log_queue) = LogQueue::new(sink, log_queue_lines);
+    let (writer, mut log_queue) = LogQueue::new(std::io::stderr(), log_queue_lines);
     log_queue.watch();
 
     // The log does not take the per-call span: its fields are on the call's
