@@ -15,6 +15,7 @@ use std::{future::Future, time::Duration};
 
 use oxbind_proto::{
     service_names,
+    v1::consistency_service_server::ConsistencyServiceServer,
     v1::{
         dissociation_service_server::DissociationServiceServer,
         model_catalog_service_server::ModelCatalogServiceServer,
@@ -29,6 +30,7 @@ use tower::util::option_layer;
 
 use crate::{
     config::Config,
+    grpc::ConsistencyApi,
     grpc::{CatalogApi, DissociationApi, TransportApi},
     http::{connect, DispatchLayer},
     layers::{call::CallLayer, connections::limited_incoming, web},
@@ -66,11 +68,12 @@ impl std::error::Error for ServeError {}
 
 /// Every name health checking reports: the whole server (`""`) and each v1
 /// service.
-pub const HEALTH_NAMES: [&str; 4] = [
+pub const HEALTH_NAMES: [&str; 5] = [
     "",
     service_names::DISSOCIATION,
     service_names::OXYGEN_TRANSPORT,
     service_names::MODEL_CATALOG,
+    service_names::CONSISTENCY,
 ];
 
 /// Serve the v1 services, health and reflection on `listener` until
@@ -181,6 +184,11 @@ where
         )
         .add_service(
             ModelCatalogServiceServer::new(CatalogApi::new(config.max_batch_items))
+                .max_decoding_message_size(decode)
+                .max_encoding_message_size(encode),
+        )
+        .add_service(
+            ConsistencyServiceServer::new(ConsistencyApi::new(config.max_batch_items))
                 .max_decoding_message_size(decode)
                 .max_encoding_message_size(encode),
         );

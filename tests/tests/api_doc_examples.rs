@@ -980,7 +980,9 @@ async fn list_models_example_is_true() {
         "Oxbind results are decision support only. They are computed from published \
 equations and do not replace measured co-oximetry or the judgement of a licensed clinician. \
 Local laboratory policy decides which values are reported, in which units and with which \
-model. Pass every warning on with the value it concerns."
+model. Pass every warning on with the value it concerns. Consistency findings \
+(ConsistencyService) support the laboratory's review of a result and do not reject results: \
+local laboratory policy decides what happens to a discordant sample."
     );
     // The limits table of API.md: (input, min, min_inclusive, max, max_inclusive, unit,
     // error reason).
@@ -1170,6 +1172,33 @@ model. Pass every warning on with the value it concerns."
                 "PAIR_COUNT_OUT_OF_RANGE"
             ),
             (
+                "bicarbonate",
+                0.0,
+                false,
+                100.0,
+                true,
+                "mmol/L",
+                "BICARBONATE_OUT_OF_RANGE"
+            ),
+            (
+                "white_cell_count",
+                0.0,
+                true,
+                1000.0,
+                true,
+                "10*9/L",
+                "WHITE_CELL_COUNT_OUT_OF_RANGE"
+            ),
+            (
+                "coverage_probability",
+                0.5,
+                true,
+                0.999,
+                true,
+                "1",
+                "COVERAGE_PROBABILITY_OUT_OF_RANGE"
+            ),
+            (
                 "batch_items",
                 1.0,
                 true,
@@ -1204,7 +1233,7 @@ model. Pass every warning on with the value it concerns."
         paths
     };
     let mut ph = conditions_paths("ph", true);
-    ph.push("ph".to_owned());
+    ph.extend(["ph", "sample.ph", "sample.results_at_37_cel.ph"].map(str::to_owned));
     let mut pressure = vec!["po2".to_owned(), "pco2".to_owned()];
     pressure.extend(
         [
@@ -1218,6 +1247,8 @@ model. Pass every warning on with the value it concerns."
             "hill.p50",
             "arterial.hill.p50",
             "venous.hill.p50",
+            "sample.po2",
+            "sample.results_at_37_cel.po2",
         ]
         .map(str::to_owned),
     );
@@ -1227,6 +1258,7 @@ model. Pass every warning on with the value it concerns."
             "measured_temperature",
             "target_temperature",
             "body_temperature",
+            "sample.temperature",
         ]
         .map(str::to_owned),
     );
@@ -1243,12 +1275,20 @@ model. Pass every warning on with the value it concerns."
         dyshemoglobin.push(format!("{path}cohb"));
         dyshemoglobin.push(format!("{path}methb"));
     }
+    dyshemoglobin.extend(["sample.cohb", "sample.methb"].map(str::to_owned));
+    let mut conditions_pco2 = conditions_paths("pco2", true);
+    conditions_pco2.extend(["sample.pco2", "sample.results_at_37_cel.pco2"].map(str::to_owned));
+    let mut hbf = conditions_paths("hbf", true);
+    hbf.push("sample.hbf".to_owned());
     let owned = |v: &[&str]| v.iter().map(|s| (*s).to_owned()).collect::<Vec<String>>();
     let expected_fields: Vec<(&str, Vec<String>)> = vec![
         ("ph", ph),
         ("pressure", pressure),
-        ("conditions_pco2", conditions_paths("pco2", true)),
-        ("barometric_pressure", owned(&["barometric_pressure"])),
+        ("conditions_pco2", conditions_pco2),
+        (
+            "barometric_pressure",
+            owned(&["barometric_pressure", "sample.barometric_pressure"]),
+        ),
         ("temperature", temperature),
         (
             "saturation_open",
@@ -1256,15 +1296,19 @@ model. Pass every warning on with the value it concerns."
         ),
         (
             "saturation_measured",
-            owned(&["arterial.saturation_fraction", "venous.saturation_fraction"]),
+            owned(&[
+                "arterial.saturation_fraction",
+                "venous.saturation_fraction",
+                "sample.so2_fraction",
+            ]),
         ),
-        ("spo2", owned(&["spo2_fraction"])),
+        ("spo2", owned(&["spo2_fraction", "sample.spo2_fraction"])),
         ("dyshemoglobin_fraction", dyshemoglobin),
-        ("hbf_fraction", conditions_paths("hbf", true)),
+        ("hbf_fraction", hbf),
         ("dpg", conditions_paths("dpg", true)),
         ("base_excess", conditions_paths("base_excess", true)),
-        ("hemoglobin", owned(&["hemoglobin"])),
-        ("fio2", owned(&["fio2"])),
+        ("hemoglobin", owned(&["hemoglobin", "sample.hemoglobin"])),
+        ("fio2", owned(&["fio2", "sample.fio2"])),
         (
             "hill_n",
             owned(&["hill.n", "arterial.hill.n", "venous.hill.n"]),
@@ -1276,6 +1320,12 @@ model. Pass every warning on with the value it concerns."
         ("curve_points", owned(&["point_count"])),
         ("curve_condition_sets", owned(&["condition_sets"])),
         ("measured_pairs", owned(&["pairs"])),
+        ("bicarbonate", owned(&["sample.bicarbonate"])),
+        ("white_cell_count", owned(&["sample.white_cell_count"])),
+        (
+            "coverage_probability",
+            owned(&["uncertainty.coverage_probability"]),
+        ),
         ("batch_items", owned(&["requests"])),
     ];
     let expected_fields: Vec<(&str, Vec<&str>)> = expected_fields

@@ -19,7 +19,9 @@ use crate::physiology::{
 pub const CAUTIONS: &str = "Oxbind results are decision support only. They are computed from \
 published equations and do not replace measured co-oximetry or the judgement of a licensed \
 clinician. Local laboratory policy decides which values are reported, in which units and with \
-which model. Pass every warning on with the value it concerns.";
+which model. Pass every warning on with the value it concerns. Consistency findings \
+(ConsistencyService) support the laboratory's review of a result and do not reject results: \
+local laboratory policy decides what happens to a discordant sample.";
 
 /// Source of the adult Hill preset.
 const ADULT_PRESET_SOURCE: &str = "n 2.7: Severinghaus JW, J Appl Physiol 1979;46(3):599-602 \

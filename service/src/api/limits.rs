@@ -95,6 +95,8 @@ pub const PH: HardLimit = HardLimit {
         "arterial.conditions.ph",
         "venous.conditions.ph",
         "ph",
+        "sample.ph",
+        "sample.results_at_37_cel.ph",
     ],
     unit: "[pH]",
     unit_key: "ph",
@@ -122,6 +124,8 @@ pub const PRESSURE: HardLimit = HardLimit {
         "hill.p50",
         "arterial.hill.p50",
         "venous.hill.p50",
+        "sample.po2",
+        "sample.results_at_37_cel.po2",
     ],
     unit: "mm[Hg]",
     unit_key: "mmhg",
@@ -144,6 +148,8 @@ pub const CONDITIONS_PCO2: HardLimit = HardLimit {
         "pairs[].conditions.pco2",
         "arterial.conditions.pco2",
         "venous.conditions.pco2",
+        "sample.pco2",
+        "sample.results_at_37_cel.pco2",
     ],
     unit: "mm[Hg]",
     unit_key: "mmhg",
@@ -158,7 +164,7 @@ pub const CONDITIONS_PCO2: HardLimit = HardLimit {
 /// Barometric pressure.
 pub const BAROMETRIC_PRESSURE: HardLimit = HardLimit {
     input: "barometric_pressure",
-    fields: &["barometric_pressure"],
+    fields: &["barometric_pressure", "sample.barometric_pressure"],
     unit: "mm[Hg]",
     unit_key: "mmhg",
     min: 150.0,
@@ -181,6 +187,7 @@ pub const TEMPERATURE: HardLimit = HardLimit {
         "measured_temperature",
         "target_temperature",
         "body_temperature",
+        "sample.temperature",
     ],
     unit: "Cel",
     unit_key: "celsius",
@@ -213,6 +220,7 @@ pub const SATURATION_MEASURED: HardLimit = HardLimit {
     fields: &[
         "arterial.saturation_fraction",
         "venous.saturation_fraction",
+        "sample.so2_fraction",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -227,7 +235,7 @@ pub const SATURATION_MEASURED: HardLimit = HardLimit {
 /// A pulse-oximetry saturation.
 pub const SPO2: HardLimit = HardLimit {
     input: "spo2",
-    fields: &["spo2_fraction"],
+    fields: &["spo2_fraction", "sample.spo2_fraction"],
     unit: "1",
     unit_key: "fraction",
     min: 0.0,
@@ -257,6 +265,8 @@ pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
         "arterial.methb",
         "venous.cohb",
         "venous.methb",
+        "sample.cohb",
+        "sample.methb",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -277,6 +287,7 @@ pub const HBF_FRACTION: HardLimit = HardLimit {
         "pairs[].conditions.hbf",
         "arterial.conditions.hbf",
         "venous.conditions.hbf",
+        "sample.hbf",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -332,7 +343,7 @@ pub const BASE_EXCESS: HardLimit = HardLimit {
 /// Total haemoglobin.
 pub const HEMOGLOBIN: HardLimit = HardLimit {
     input: "hemoglobin",
-    fields: &["hemoglobin"],
+    fields: &["hemoglobin", "sample.hemoglobin"],
     unit: "g/dL",
     unit_key: "g_per_dl",
     min: 0.0,
@@ -346,7 +357,7 @@ pub const HEMOGLOBIN: HardLimit = HardLimit {
 /// Inspired oxygen fraction.
 pub const FIO2: HardLimit = HardLimit {
     input: "fio2",
-    fields: &["fio2"],
+    fields: &["fio2", "sample.fio2"],
     unit: "1",
     unit_key: "fraction",
     min: 0.05,
@@ -470,8 +481,50 @@ pub const MEASURED_PAIRS: HardLimit = HardLimit {
     reason: "a P50 needs at least one measured pair; 10,000 bounds the fit's work",
 };
 
+/// Bicarbonate (or total CO2) of a blood-gas sample.
+pub const BICARBONATE: HardLimit = HardLimit {
+    input: "bicarbonate",
+    fields: &["sample.bicarbonate"],
+    unit: "mmol/L",
+    unit_key: "mmol_per_l",
+    min: 0.0,
+    min_inclusive: false,
+    max: 100.0,
+    max_inclusive: true,
+    error_reason: "BICARBONATE_OUT_OF_RANGE",
+    reason: "a bicarbonate or total CO2 must be positive; above 100 mmol/L no plasma value is plausible and the value is a unit error (our judgement)",
+};
+
+/// White-cell count.
+pub const WHITE_CELL_COUNT: HardLimit = HardLimit {
+    input: "white_cell_count",
+    fields: &["sample.white_cell_count"],
+    unit: "10*9/L",
+    unit_key: "e9_per_l",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1000.0,
+    max_inclusive: true,
+    error_reason: "WHITE_CELL_COUNT_OUT_OF_RANGE",
+    reason: "a count cannot be negative; above 1000 x 10^9/L is beyond any reported leukocytosis and the value is a unit error (our judgement)",
+};
+
+/// Coverage probability of the consistency checks' uncertainty-based limits.
+pub const COVERAGE_PROBABILITY: HardLimit = HardLimit {
+    input: "coverage_probability",
+    fields: &["uncertainty.coverage_probability"],
+    unit: "1",
+    unit_key: "fraction",
+    min: crate::physiology::uncertainty::evaluate::MIN_COVERAGE_PROBABILITY,
+    min_inclusive: true,
+    max: crate::physiology::uncertainty::evaluate::MAX_COVERAGE_PROBABILITY,
+    max_inclusive: true,
+    error_reason: "COVERAGE_PROBABILITY_OUT_OF_RANGE",
+    reason: "below one half a limit says little; above 0.999 the normal coverage factor rests on the far tails of the distributions",
+};
+
 /// Every hard limit, in the order the catalog lists them.
-pub const ALL: [&HardLimit; 22] = [
+pub const ALL: [&HardLimit; 25] = [
     &PH,
     &PRESSURE,
     &CONDITIONS_PCO2,
@@ -494,4 +547,7 @@ pub const ALL: [&HardLimit; 22] = [
     &CURVE_POINTS,
     &CURVE_CONDITION_SETS,
     &MEASURED_PAIRS,
+    &BICARBONATE,
+    &WHITE_CELL_COUNT,
+    &COVERAGE_PROBABILITY,
 ];

@@ -52,7 +52,7 @@ const TIMER_MARGIN: Duration = Duration::from_millis(1);
 const HEALTH_PATH_PREFIX: &str = "/grpc.health.v1.Health/";
 
 /// Every method the server serves, fully qualified as `rpc.method` wants it.
-const KNOWN_METHODS: [&str; 16] = [
+const KNOWN_METHODS: [&str; 18] = [
     "oxbind.v1.DissociationService/SaturationFromTension",
     "oxbind.v1.DissociationService/TensionFromSaturation",
     "oxbind.v1.DissociationService/SampleCurve",
@@ -64,6 +64,8 @@ const KNOWN_METHODS: [&str; 16] = [
     "oxbind.v1.OxygenTransportService/OxygenContent",
     "oxbind.v1.OxygenTransportService/GasExchange",
     "oxbind.v1.ModelCatalogService/ListModels",
+    "oxbind.v1.ConsistencyService/CheckBloodGas",
+    "oxbind.v1.ConsistencyService/BatchCheckBloodGas",
     "grpc.health.v1.Health/Check",
     "grpc.health.v1.Health/Watch",
     "grpc.health.v1.Health/List",

@@ -13,6 +13,8 @@ use tower::Service;
 use super::{request, Codec};
 use crate::api::{catalog, dissociation, status::InvalidRequest, transport};
 
+use crate::api::consistency;
+
 /// What a procedure needs besides the request: the configured limits.
 #[derive(Debug, Clone, Copy)]
 pub struct Limits {
@@ -63,7 +65,7 @@ type Procedure = fn(&Call<'_>) -> Result<Bytes, Status>;
 /// Every v1 RPC by its Connect path (`/<package>.<Service>/<Method>`). All
 /// are free of side effects (`idempotency_level = NO_SIDE_EFFECTS`), so all
 /// take the GET form too.
-const PROCEDURES: [(&str, Procedure); 11] = [
+const PROCEDURES: [(&str, Procedure); 13] = [
     (
         "/oxbind.v1.DissociationService/SaturationFromTension",
         |call| call.unary(dissociation::compute_saturation_from_tension),
@@ -109,6 +111,12 @@ const PROCEDURES: [(&str, Procedure); 11] = [
     }),
     ("/oxbind.v1.ModelCatalogService/ListModels", |call| {
         call.unary(|r| Ok(catalog::compute_list_models(r, call.limits.max_batch_items)))
+    }),
+    ("/oxbind.v1.ConsistencyService/CheckBloodGas", |call| {
+        call.unary(consistency::compute_check_blood_gas)
+    }),
+    ("/oxbind.v1.ConsistencyService/BatchCheckBloodGas", |call| {
+        call.unary(|r| consistency::compute_batch_check_blood_gas(r, call.limits.max_batch_items))
     }),
 ];
 
