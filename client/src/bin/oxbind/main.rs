@@ -6,6 +6,8 @@
 
 mod args;
 mod batch;
+mod check;
+mod check_batch;
 mod columns;
 mod commands;
 mod demo;
@@ -127,6 +129,10 @@ enum Command {
     /// Saturations (or tensions) for every row of a CSV file, through the
     /// batch RPCs.
     Batch(batch::BatchArgs),
+    /// Consistency checks of one blood-gas sample before release (or, with
+    /// --input, of every row of a CSV file): one finding per check. Findings
+    /// support the laboratory's review and do not reject results.
+    Check(check::CheckArgs),
     /// An invented scenario at a fictional hospital (`--svg` draws its curves).
     Demo(demo::DemoArgs),
     /// Print a shell completion script.
@@ -203,6 +209,7 @@ fn names_for(command: &Command) -> FieldNames {
         Command::Content(_) => commands::content_names(),
         Command::GasExchange(_) => commands::gas_exchange_names(),
         Command::Demo(_) => commands::curve_point_names(),
+        Command::Check(a) => check::check_names(a.figures.figures.len()),
         _ => FieldNames::new(),
     }
 }
@@ -237,6 +244,9 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
     };
     match &cli.command {
         Command::Batch(_) if cli.json => unused("--json", "batch (it writes CSV)"),
+        Command::Check(a) if cli.json && a.input.is_some() => {
+            unused("--json", "check --input (it writes CSV)")
+        }
         Command::Demo(_) if cli.json => unused("--json", "demo"),
         Command::Health | Command::Models | Command::Completions { .. } if cli.model.is_some() => {
             unused("--model", "health, models or completions")
@@ -270,6 +280,12 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         Command::Batch(args) => Some(batch::prepare(args, model, unit_system)?),
         _ => None,
     };
+    let prepared_checks = match &cli.command {
+        Command::Check(args) if args.input.is_some() => {
+            Some(check_batch::prepare(args, model, unit_system)?)
+        }
+        _ => None,
+    };
     let server_name = source_name(matches, "server", "--server", "OXBIND_SERVER");
     let ctx = Context {
         client: connect(cli, &server_name).await?,
@@ -291,6 +307,10 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         Command::Batch(a) => match prepared {
             Some(prepared) => batch::run(&ctx, a, prepared).await,
             None => Ok(()),
+        },
+        Command::Check(a) => match prepared_checks {
+            Some(prepared) => check_batch::run(&ctx, a, prepared).await,
+            None => check::check(&ctx, a).await,
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
         Command::Completions { .. } => Ok(()),

@@ -81,7 +81,11 @@ pub(super) fn finding(f: &Finding, system: UnitSystem) -> ConsistencyFinding {
             .into_iter()
             .map(|c| ConsistencyCause {
                 cause: c.cause.clone(),
-                source: format!("{} ({})", c.source, c.verification),
+                source: if c.source == c.verification {
+                    c.source.clone()
+                } else {
+                    format!("{} ({})", c.source, c.verification)
+                },
             })
             .collect(),
         ..Default::default()

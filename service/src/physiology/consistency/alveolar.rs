@@ -95,7 +95,7 @@ R 0.8{}. A PO2 above the alveolar PO2 cannot occur in a steady state.",
         if barometric_given {
             ""
         } else {
-            " and the standard barometric pressure 760 mm[Hg] (none was given)"
+            " and the barometric pressure of one standard atmosphere (none was given)"
         }
     );
     Ok(Evaluated {

@@ -127,9 +127,8 @@ of air-equilibrated blood, |statistic| > threshold, and PCO2 at 37 Cel < 35 mm[H
         .to_owned();
     let note = match (beyond && toward_air, low_pco2) {
         (true, true) => {
-            "The PO2 lies toward the PO2 of air (about 150 mm[Hg]) beyond the \
-uncertainty, from where the SpO2 puts it, and the PCO2 is low: the pattern of air in the \
-syringe."
+            "The PO2 lies toward the PO2 of air beyond the uncertainty, from where the \
+SpO2 puts it, and the PCO2 is low: the pattern of air in the syringe."
         }
         (true, false) => {
             "The PO2 lies toward the PO2 of air beyond the uncertainty, but the \
