@@ -76,6 +76,24 @@ pub(super) fn input_kind(input: FigureInput) -> Option<QuantityKind> {
     }
 }
 
+/// The largest standard uncertainty accepted for `input`, engine unit: the
+/// width of its hard range (our limit: a larger figure says nothing, and
+/// would overflow the arithmetic).
+fn largest_standard_uncertainty(input: FigureInput) -> f64 {
+    match input {
+        FigureInput::Po2 | FigureInput::Pco2 | FigureInput::BarometricPressure => {
+            limits::PRESSURE_MAX_MMHG
+        }
+        FigureInput::Ph => limits::PH.max - limits::PH.min,
+        FigureInput::Bicarbonate => limits::BICARBONATE.max,
+        FigureInput::So2
+        | FigureInput::Spo2
+        | FigureInput::Cohb
+        | FigureInput::Methb
+        | FigureInput::Fio2 => 1.0,
+    }
+}
+
 /// The figures and the coverage probability of a request's `uncertainty`
 /// at `path`; refusals go to `reader`.
 pub(super) fn read_uncertainty(
@@ -182,11 +200,17 @@ fn read_figure(
                     }
                 }
             };
-            if value < 0.0 {
+            let most = largest_standard_uncertainty(input);
+            if !(0.0..=most).contains(&value) {
                 reader.refuse(Violation::other(
                     &path.field("value"),
                     REASON_OUT_OF_RANGE,
-                    "a standard uncertainty must be 0 or greater",
+                    format!(
+                        "a standard uncertainty must be 0 or greater, and no larger than the \
+input's whole accepted range ({} {})",
+                        crate::api::status::readable(most),
+                        input_kind(input).map_or(PH_UNIT, units::engine_unit)
+                    ),
                 ));
                 return None;
             }

@@ -55,7 +55,14 @@ pub(super) fn read(request: &CheckBloodGasRequest) -> Result<ReadRequest, Invali
             None
         }
     };
-    let model = choose_model(&mut reader, request.model, None, &root);
+    // MODEL_HILL takes its adult preset: the request has no Hill parameters
+    // (and so no `hill` fields to record).
+    let model = match oxbind_proto::v1::Model::try_from(request.model) {
+        Ok(oxbind_proto::v1::Model::Hill) => {
+            crate::physiology::model::Model::Hill(crate::physiology::hill::Hill::ADULT)
+        }
+        _ => choose_model(&mut reader, request.model, None, &root),
+    };
     let rule = match ConsistencyThresholdRule::try_from(request.threshold_rule) {
         Ok(ConsistencyThresholdRule::UncertaintyBased) => ThresholdRule::UncertaintyBased,
         Ok(_) => ThresholdRule::PublishedWhereAvailable,
