@@ -3,7 +3,8 @@
 # toolchains (stable and nightly, the latter for the fuzz step), Python 3 and
 # Node: formatting, clippy, all Rust tests, buf lint of the contract, buf
 # breaking against the previous commit, and schema validation of every
-# Kubernetes manifest. Python tools go into a virtual environment made here.
+# Kubernetes manifest. Python tools go into a virtual environment made here;
+# headless Chromium (Debian's package) is installed with apt-get when absent.
 set -euo pipefail
 
 root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
@@ -26,6 +27,21 @@ fi
 "$venv/bin/python" -m pip install --quiet --disable-pip-version-check \
     "buf-bin==$buf_bin_version" \
     "kubernetes-validate==$kubernetes_validate_version"
+
+step "System packages: headless Chromium and fonts (the verification report's print test)"
+# client/tests/verify.rs renders the HTML report of `oxbind verify` to PDF and
+# PNG with headless Chromium, so that it is known to print.
+if ! command -v chromium >/dev/null 2>&1 && ! command -v chromium-browser >/dev/null 2>&1; then
+    if [ "$(id -u)" -eq 0 ]; then
+        apt_get=(apt-get)
+    else
+        apt_get=(sudo apt-get)
+    fi
+    "${apt_get[@]}" update -qq
+    DEBIAN_FRONTEND=noninteractive "${apt_get[@]}" install -y -qq --no-install-recommends \
+        chromium fonts-dejavu-core fonts-liberation
+fi
+echo "$(command -v chromium || command -v chromium-browser)"
 
 step "cargo fmt --check"
 cargo fmt --all -- --check
@@ -65,6 +81,9 @@ bash tests/interop/run.sh
 
 step "Connect (the official Connect client for Python, connectrpc)"
 bash tests/connect/run.sh
+
+step "FHIR answers validated independently (fhirclient, R4 JSON Schema, FHIRPath)"
+bash tests/fhir/run.sh
 
 step "fuzz smoke (cargo-fuzz on the nightly toolchain: corpus replay and about 60 s of fuzzing)"
 bash tests/fuzz-smoke.sh

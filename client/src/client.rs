@@ -10,11 +10,11 @@ use oxbind_proto::v1::{
     tension_from_saturation_result, BatchSaturationFromTensionRequest,
     BatchTensionFromSaturationRequest, BloodConditions, CorrectForTemperatureRequest,
     CorrectForTemperatureResponse, EstimateP50Request, EstimateP50Response, GasExchangeRequest,
-    GasExchangeResponse, ListModelsRequest, ListModelsResponse, OxygenContentRequest,
-    OxygenContentResponse, Provenance, ProvenancePlacement, Quantity, SampleCurveRequest,
-    SampleCurveResponse, SaturationFromTensionRequest, SaturationFromTensionResponse,
-    ShiftFactorsRequest, ShiftFactorsResponse, TensionFromSaturationRequest,
-    TensionFromSaturationResponse,
+    GasExchangeResponse, GetServerSettingsRequest, GetServerSettingsResponse, ListModelsRequest,
+    ListModelsResponse, OxygenContentRequest, OxygenContentResponse, Provenance,
+    ProvenancePlacement, Quantity, SampleCurveRequest, SampleCurveResponse,
+    SaturationFromTensionRequest, SaturationFromTensionResponse, ShiftFactorsRequest,
+    ShiftFactorsResponse, TensionFromSaturationRequest, TensionFromSaturationResponse,
 };
 use tonic::{
     transport::{Certificate, Channel, ClientTlsConfig, Endpoint, Identity},
@@ -227,6 +227,17 @@ impl ClientBuilder {
         Ok(OxbindClient::from_channel(channel, self.retry).with_call_timeout(self.call_timeout))
     }
 
+    /// Open the connection now and give back the bare channel, with this
+    /// builder's address, timeouts, TLS and user agent, for calls the
+    /// typed client does not make (any method, by reflection). Fails as
+    /// [`Self::connect`] does.
+    pub async fn connect_channel(self) -> Result<Channel, ClientError> {
+        self.endpoint()?
+            .connect()
+            .await
+            .map_err(ClientError::Connect)
+    }
+
     /// Connect on first use: an unreachable server then shows as UNAVAILABLE
     /// on the call (and is retried by the policy).
     pub fn connect_lazy(self) -> Result<OxbindClient, ClientError> {
@@ -385,6 +396,11 @@ impl OxbindClient {
     unary!(
         /// The models the server offers, and its cautions (`ListModels`).
         list_models, catalog, ListModelsRequest, ListModelsResponse
+    );
+    unary!(
+        /// The server's identity and the settings it runs with
+        /// (`GetServerSettings`).
+        get_server_settings, catalog, GetServerSettingsRequest, GetServerSettingsResponse
     );
     unary!(
         /// The consistency findings of one blood-gas sample (`CheckBloodGas`):

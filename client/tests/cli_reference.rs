@@ -12,7 +12,11 @@ use prost_reflect::{DescriptorPool, Kind, MessageDescriptor};
 const README: &str = include_str!("../../README.md");
 
 /// Messages documented once, in their own table, wherever they appear.
-const SHARED: [&str; 2] = ["oxbind.v1.BloodConditions", "oxbind.v1.HillParameters"];
+const SHARED: [&str; 3] = [
+    "oxbind.v1.BloodConditions",
+    "oxbind.v1.HillParameters",
+    "oxbind.v1.UncertaintyRequest",
+];
 
 fn pool() -> DescriptorPool {
     DescriptorPool::decode(oxbind_proto::FILE_DESCRIPTOR_SET).unwrap()
@@ -149,6 +153,26 @@ fn the_shared_messages_have_their_own_complete_tables() {
     for row in &rows {
         for flag in flags_in(&row[1]) {
             assert!(saturation.contains(&flag), "{row:?}: {flag}");
+        }
+    }
+    let uncertainty = pool.get_message_by_name(SHARED[2]).unwrap();
+    let rows = table("| UncertaintyRequest field |");
+    let documented: Vec<String> = rows.iter().map(|r| unquote(&r[0])).collect();
+    let fields: Vec<String> = uncertainty.fields().map(|f| f.name().to_owned()).collect();
+    assert_eq!(documented, fields);
+    for command in [
+        "saturation",
+        "tension",
+        "shift",
+        "content",
+        "gas-exchange",
+        "curve",
+    ] {
+        let help = help_of(command, &mut helps);
+        for row in &rows {
+            for flag in flags_in(&row[1]) {
+                assert!(help.contains(&flag), "{command} {row:?}: {flag}");
+            }
         }
     }
 }

@@ -11,14 +11,23 @@ use oxbind_proto::v1::{
     BatchSaturationFromTensionResponse, BatchTensionFromSaturationRequest,
     BatchTensionFromSaturationResponse, CorrectForTemperatureRequest,
     CorrectForTemperatureResponse, EstimateP50Request, EstimateP50Response, GasExchangeRequest,
-    GasExchangeResponse, ListModelsRequest, ListModelsResponse, OxygenContentRequest,
-    OxygenContentResponse, SampleCurveRequest, SampleCurveResponse, SaturationFromTensionRequest,
-    SaturationFromTensionResponse, ShiftFactorsRequest, ShiftFactorsResponse,
-    TensionFromSaturationRequest, TensionFromSaturationResponse,
+    GasExchangeResponse, GetServerSettingsRequest, GetServerSettingsResponse, ListModelsRequest,
+    ListModelsResponse, OxygenContentRequest, OxygenContentResponse, SampleCurveRequest,
+    SampleCurveResponse, SaturationFromTensionRequest, SaturationFromTensionResponse,
+    ShiftFactorsRequest, ShiftFactorsResponse, TensionFromSaturationRequest,
+    TensionFromSaturationResponse,
 };
 use tonic::{Request, Response, Status};
 
-use crate::api::{catalog, dissociation, status::InvalidRequest, transport};
+use crate::{
+    api::{
+        catalog, dissociation,
+        server_settings::{compute_get_server_settings, ReportedSettings},
+        status::InvalidRequest,
+        transport,
+    },
+    config::Config,
+};
 
 use crate::api::consistency;
 use oxbind_proto::v1::{
@@ -149,12 +158,25 @@ impl OxygenTransportService for TransportApi {
 #[derive(Debug, Clone)]
 pub struct CatalogApi {
     max_batch_items: usize,
+    settings: std::sync::Arc<ReportedSettings>,
 }
 
 impl CatalogApi {
-    /// A catalog that reports `max_batch_items` as the batch limit.
+    /// A catalog that reports `max_batch_items` as the batch limit, and the
+    /// default configuration's settings.
     pub fn new(max_batch_items: usize) -> Self {
-        Self { max_batch_items }
+        Self::from_config(&Config {
+            max_batch_items,
+            ..Config::default()
+        })
+    }
+
+    /// A catalog that reports the limits and settings of `config`.
+    pub fn from_config(config: &Config) -> Self {
+        Self {
+            max_batch_items: config.max_batch_items,
+            settings: std::sync::Arc::new(ReportedSettings::from_config(config)),
+        }
     }
 }
 
@@ -167,6 +189,16 @@ impl ModelCatalogService for CatalogApi {
         Ok(Response::new(catalog::compute_list_models(
             request.get_ref(),
             self.max_batch_items,
+        )))
+    }
+
+    async fn get_server_settings(
+        &self,
+        request: Request<GetServerSettingsRequest>,
+    ) -> Result<Response<GetServerSettingsResponse>, Status> {
+        Ok(Response::new(compute_get_server_settings(
+            request.get_ref(),
+            &self.settings,
         )))
     }
 }

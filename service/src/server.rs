@@ -3,13 +3,14 @@
 //! [`serve`] takes the listener and any shutdown future, so the binary passes a
 //! real socket and the OS signals, and tests pass port 0 and a oneshot.
 //!
-//! The main listener serves gRPC, grpc-web (behind a flag) and the Connect
-//! protocol, over HTTP/2 and HTTP/1.1. Each request passes, outermost first:
-//! CORS (when origins are configured), the door dispatch
-//! ([`crate::http::DispatchLayer`]: Connect by content type, refusals for
-//! v1 paths), then, for gRPC and grpc-web only, grpc-web translation, the
-//! per-call layer and the tonic routes. The Connect door has its own copy of
-//! the same per-call layer (one shared call limit).
+//! The main listener serves gRPC, grpc-web (behind a flag), the Connect
+//! protocol and the FHIR R4 door, over HTTP/2 and HTTP/1.1. Each request
+//! passes, outermost first: CORS (when origins are configured), the door
+//! dispatch ([`crate::http::DispatchLayer`]: FHIR by path, Connect by
+//! content type, refusals for v1 paths), then, for gRPC and grpc-web only,
+//! grpc-web translation, the per-call layer and the tonic routes. The
+//! Connect and FHIR doors each have their own copy of the same per-call
+//! layer (one shared call limit).
 
 use std::{future::Future, time::Duration};
 
@@ -28,11 +29,12 @@ use tonic::transport::{server::TcpIncoming, Server};
 use tonic_health::{server::HealthReporter, ServingStatus};
 use tower::util::option_layer;
 
+use crate::api::server_settings::ReportedSettings;
 use crate::{
     config::Config,
     grpc::ConsistencyApi,
     grpc::{CatalogApi, DissociationApi, TransportApi},
-    http::{connect, DispatchLayer},
+    http::{connect, fhir, DispatchLayer},
     layers::{call::CallLayer, connections::limited_incoming, web},
 };
 
@@ -157,14 +159,17 @@ where
             max_batch_items: config.max_batch_items,
             max_request_bytes: decode,
             max_response_bytes: encode,
+            settings: std::sync::Arc::new(ReportedSettings::from_config(&config)),
         },
     );
+    // The FHIR R4 door under /fhir/r4, with its own copy of the same layer.
+    let fhir = fhir::door::door(&call_layer, decode);
 
     let router = builder
         .layer(option_layer(cors))
-        // The dispatch: Connect (with its own copy of the per-call layer)
-        // and refusals here; gRPC and grpc-web go on below.
-        .layer(DispatchLayer::new(connect, config.grpc_web))
+        // The dispatch: FHIR and Connect (each with its own copy of the
+        // per-call layer) and refusals here; gRPC and grpc-web go on below.
+        .layer(DispatchLayer::new(connect, fhir, config.grpc_web))
         // Only gRPC and grpc-web requests pass this point: a gRPC
         // strictness layer goes here.
         .layer(option_layer(grpc_web))
@@ -183,7 +188,7 @@ where
                 .max_encoding_message_size(encode),
         )
         .add_service(
-            ModelCatalogServiceServer::new(CatalogApi::new(config.max_batch_items))
+            ModelCatalogServiceServer::new(CatalogApi::from_config(&config))
                 .max_decoding_message_size(decode)
                 .max_encoding_message_size(encode),
         )

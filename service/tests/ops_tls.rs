@@ -176,3 +176,74 @@ async fn tls_without_a_client_ca_serves_any_client() {
     server.stop().await;
     let _ = std::fs::remove_dir_all(dir);
 }
+
+/// The HTTP status of `GET /fhir/r4/metadata` over TLS (HTTP/2), or why
+/// there was none.
+async fn fhir_metadata_over_tls(
+    server: &Running,
+    server_ca: &str,
+    identity: Option<(String, String)>,
+) -> Result<u16, String> {
+    use http_body_util::{BodyExt, Full};
+    use tonic::codegen::{Bytes, Service};
+    let mut tls = ClientTlsConfig::new()
+        .ca_certificate(Certificate::from_pem(server_ca))
+        .domain_name("localhost");
+    if let Some((cert, key)) = identity {
+        tls = tls.identity(Identity::from_pem(cert, key));
+    }
+    let origin = format!("https://localhost:{}", server.address.port());
+    let mut channel = Endpoint::from_shared(origin.clone())
+        .unwrap()
+        .tls_config(tls)
+        .map_err(|e| e.to_string())?
+        .connect()
+        .await
+        .map_err(|e| format!("connect: {e}"))?;
+    let request = http::Request::get(format!("{origin}/fhir/r4/metadata"))
+        .body(tonic::body::Body::new(Full::new(Bytes::new())))
+        .unwrap();
+    std::future::poll_fn(|cx| channel.poll_ready(cx))
+        .await
+        .map_err(|e| e.to_string())?;
+    let response = channel.call(request).await.map_err(|e| e.to_string())?;
+    let status = response.status().as_u16();
+    let body = response
+        .into_body()
+        .collect()
+        .await
+        .map_err(|e| e.to_string())?;
+    let text = String::from_utf8_lossy(&body.to_bytes()).into_owned();
+    assert!(text.contains("CapabilityStatement"), "{text}");
+    Ok(status)
+}
+
+#[tokio::test]
+async fn the_fhir_door_is_served_under_the_same_mutual_tls() {
+    let dir = scratch_dir("fhir-mtls");
+    let ca = Authority::new("Oxbind test CA");
+    let (server_cert, server_key) = ca.leaf("localhost", ExtendedKeyUsagePurpose::ServerAuth);
+    let config = Config {
+        tls_cert: Some(write(&dir, "server.pem", &server_cert)),
+        tls_key: Some(write(&dir, "server.key", &server_key)),
+        client_ca: Some(write(&dir, "client-ca.pem", &ca.pem())),
+        ..Config::default()
+    };
+    let server = Running::start(config, false).await;
+    let good = ca.leaf(
+        "ehr-integration-engine",
+        ExtendedKeyUsagePurpose::ClientAuth,
+    );
+    assert_eq!(
+        fhir_metadata_over_tls(&server, &ca.pem(), Some(good)).await,
+        Ok(200)
+    );
+    assert!(
+        fhir_metadata_over_tls(&server, &ca.pem(), None)
+            .await
+            .is_err(),
+        "a client without a certificate must be refused"
+    );
+    server.stop().await;
+    let _ = std::fs::remove_dir_all(dir);
+}

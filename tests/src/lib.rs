@@ -5,11 +5,16 @@
 pub mod http;
 pub mod vectors;
 
-use std::net::SocketAddr;
+pub mod fhir;
 
-use oxbind_service::Config;
+use std::{future::Future, net::SocketAddr, pin::Pin};
+
+use oxbind_service::{Config, ServeError};
 use tokio::{net::TcpListener, sync::oneshot, task::JoinHandle};
 use tonic::transport::Channel;
+
+/// The future a server stops on.
+pub type Shutdown = Pin<Box<dyn Future<Output = ()> + Send + 'static>>;
 
 /// A server running in this process on an ephemeral port.
 pub struct TestServer {
@@ -27,14 +32,30 @@ impl TestServer {
     /// Start a server with `config` (its listen address is ignored: the
     /// server binds `127.0.0.1:0`).
     pub async fn start_with(config: Config) -> Self {
+        Self::start_serving(|listener, shutdown| oxbind_service::serve(listener, config, shutdown))
+            .await
+    }
+
+    /// Start a stand-in server: `serve` gets the bound listener and the
+    /// shutdown future and runs until that future completes. For tests that
+    /// need a deliberately different server (a test double); every other
+    /// test uses [`TestServer::start`].
+    pub async fn start_serving<S, F>(serve: S) -> Self
+    where
+        S: FnOnce(TcpListener, Shutdown) -> F,
+        F: Future<Output = Result<(), ServeError>> + Send + 'static,
+    {
         let listener = TcpListener::bind("127.0.0.1:0")
             .await
             .expect("bind an ephemeral port");
         let address = listener.local_addr().expect("local address");
         let (stop, stopped) = oneshot::channel::<()>();
-        let task = tokio::spawn(oxbind_service::serve(listener, config, async move {
-            let _ = stopped.await;
-        }));
+        let task = tokio::spawn(serve(
+            listener,
+            Box::pin(async move {
+                let _ = stopped.await;
+            }),
+        ));
         Self {
             address,
             stop: Some(stop),

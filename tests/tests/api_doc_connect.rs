@@ -240,11 +240,20 @@ fn check_answer(command: &str, answer: &Answer, printed: &Printed) {
     check("answer", Some(&answer.json()), &printed.body);
 }
 
+/// The Connect section of API.md: from its heading to the next section's.
+fn connect_section(document: &str) -> &str {
+    let start = document.find(SECTION).expect("the Connect section");
+    let rest = &document[start + SECTION.len()..];
+    let end = rest
+        .find("\n## ")
+        .map_or(document.len(), |i| start + SECTION.len() + i);
+    &document[start..end]
+}
+
 #[tokio::test]
 async fn every_curl_transcript_of_the_connect_section_holds() {
     let document = api_md();
-    let section = &document[document.find(SECTION).expect("the Connect section")..];
-    let blocks = code_blocks(section);
+    let blocks = code_blocks(connect_section(&document));
     let server = TestServer::start().await;
     let mut checked = 0;
     for pair in blocks.windows(2) {
@@ -280,8 +289,7 @@ fn the_readme_curl_example_is_the_documents_first() {
     let readme = std::fs::read_to_string(concat!(env!("CARGO_MANIFEST_DIR"), "/../README.md"))
         .expect("README.md");
     let document = api_md();
-    let section = &document[document.find(SECTION).expect("the Connect section")..];
-    let first = code_blocks(section)
+    let first = code_blocks(connect_section(&document))
         .into_iter()
         .find(|(info, body)| info == "sh" && body.starts_with("curl"))
         .expect("a curl transcript")

@@ -1,4 +1,4 @@
-//! The worked example of `proto/API.md` section 7.12 (CheckBloodGas), sent
+//! The worked example of `proto/API.md` section 7.13 (CheckBloodGas), sent
 //! exactly as documented: the request is read from the document's first
 //! JSON block of the section, sent through the client crate, and the answer
 //! (in the protobuf JSON mapping) is checked against every field the
@@ -17,7 +17,7 @@ use oxbind_tests::TestServer;
 use serde_json::Value;
 
 /// The heading of the section whose example is checked.
-const SECTION: &str = "### 7.12 CheckBloodGas";
+const SECTION: &str = "### 7.13 CheckBloodGas";
 
 /// The document's text between `SECTION` and the next section.
 fn section() -> String {

@@ -980,9 +980,15 @@ async fn list_models_example_is_true() {
         "Oxbind results are decision support only. They are computed from published \
 equations and do not replace measured co-oximetry or the judgement of a licensed clinician. \
 Local laboratory policy decides which values are reported, in which units and with which \
-model. Pass every warning on with the value it concerns. Consistency findings \
-(ConsistencyService) support the laboratory's review of a result and do not reject results: \
-local laboratory policy decides what happens to a discordant sample."
+model. Pass every warning on with the value it concerns. An uncertainty interval describes the \
+arithmetic from the figures stated for the inputs, not the patient; the built-in profiles are \
+fallbacks, some not verified at their source (see uncertainty_profiles), and a laboratory's own \
+imprecision and a device's own accuracy describe its results better. Pulse-oximetry bias by \
+skin pigmentation (and by low perfusion or dyshaemoglobins) is not included in any uncertainty \
+unless the caller gives it as a figure: the pulse-oximeter accuracy figures come from \
+laboratory studies in healthy volunteers. Consistency findings (ConsistencyService) support the \
+laboratory's review of a result and do not reject results: local laboratory policy decides what \
+happens to a discordant sample."
     );
     // The limits table of API.md: (input, min, min_inclusive, max, max_inclusive, unit,
     // error reason).
@@ -990,12 +996,16 @@ local laboratory policy decides what happens to a discordant sample."
         .input_limits
         .iter()
         .map(|l| {
-            let (min, max) = (l.min.as_ref().unwrap(), l.max.as_ref().unwrap());
+            // An absent max is no upper limit (a finite value is enough).
+            let (min, max) = (
+                l.min.as_ref().unwrap(),
+                l.max.as_ref().map_or(f64::INFINITY, |m| m.value),
+            );
             (
                 l.input.as_str(),
                 min.value,
                 l.min_inclusive,
-                max.value,
+                max,
                 l.max_inclusive,
                 min.unit.as_str(),
                 l.error_reason.as_str(),
@@ -1172,6 +1182,87 @@ local laboratory policy decides what happens to a discordant sample."
                 "PAIR_COUNT_OUT_OF_RANGE"
             ),
             (
+                "uncertainty_draws",
+                10_000.0,
+                true,
+                1_000_000.0,
+                true,
+                "1",
+                "DRAW_COUNT_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_coverage_probability",
+                0.5,
+                true,
+                0.99,
+                true,
+                "1",
+                "COVERAGE_PROBABILITY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_significant_digits",
+                1.0,
+                true,
+                4.0,
+                true,
+                "1",
+                "SIGNIFICANT_DIGITS_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_figures",
+                0.0,
+                true,
+                32.0,
+                true,
+                "1",
+                "TOO_MANY_UNCERTAINTY_FIGURES"
+            ),
+            (
+                "uncertainty_absolute",
+                0.0,
+                true,
+                f64::INFINITY,
+                false,
+                "1",
+                "UNCERTAINTY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_relative",
+                0.0,
+                true,
+                1.0,
+                true,
+                "1",
+                "UNCERTAINTY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_bound_coverage",
+                0.0,
+                false,
+                1.0,
+                false,
+                "1",
+                "COVERAGE_PROBABILITY_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_coverage_factor",
+                0.0,
+                false,
+                f64::INFINITY,
+                false,
+                "1",
+                "COVERAGE_FACTOR_OUT_OF_RANGE"
+            ),
+            (
+                "uncertainty_trapezoid_ratio",
+                0.0,
+                true,
+                1.0,
+                true,
+                "1",
+                "TRAPEZOID_RATIO_OUT_OF_RANGE"
+            ),
+            (
                 "bicarbonate",
                 0.0,
                 false,
@@ -1320,6 +1411,42 @@ local laboratory policy decides what happens to a discordant sample."
         ("curve_points", owned(&["point_count"])),
         ("curve_condition_sets", owned(&["condition_sets"])),
         ("measured_pairs", owned(&["pairs"])),
+        ("uncertainty_draws", owned(&["uncertainty.draw_count"])),
+        (
+            "uncertainty_coverage_probability",
+            owned(&["uncertainty.coverage_probability"]),
+        ),
+        (
+            "uncertainty_significant_digits",
+            owned(&["uncertainty.significant_digits"]),
+        ),
+        ("uncertainty_figures", owned(&["uncertainty.inputs"])),
+        (
+            "uncertainty_absolute",
+            owned(&[
+                "uncertainty.inputs[].standard_uncertainty.absolute",
+                "uncertainty.inputs[].bound.half_width.absolute",
+            ]),
+        ),
+        (
+            "uncertainty_relative",
+            owned(&[
+                "uncertainty.inputs[].standard_uncertainty.relative",
+                "uncertainty.inputs[].bound.half_width.relative",
+            ]),
+        ),
+        (
+            "uncertainty_bound_coverage",
+            owned(&["uncertainty.inputs[].bound.coverage_probability"]),
+        ),
+        (
+            "uncertainty_coverage_factor",
+            owned(&["uncertainty.inputs[].bound.coverage_factor"]),
+        ),
+        (
+            "uncertainty_trapezoid_ratio",
+            owned(&["uncertainty.inputs[].bound.trapezoid_top_ratio"]),
+        ),
         ("bicarbonate", owned(&["sample.bicarbonate"])),
         ("white_cell_count", owned(&["sample.white_cell_count"])),
         (
@@ -1432,5 +1559,354 @@ writes it `Cel`); accepted UCUM codes (case-sensitive): Cel, [degF]",
             ("violation_count", "3"),
         ],
     );
+    server.stop().await;
+}
+
+/// API.md section 7.12: the answer of a server with the default settings is
+/// the one printed, setting by setting (the identity is a placeholder
+/// there).
+#[tokio::test]
+async fn get_server_settings_example_is_true() {
+    let document = include_str!("../../proto/API.md");
+    let section = document
+        .split("### 7.12 GetServerSettings")
+        .nth(1)
+        .expect("API.md has section 7.12");
+    let block = section
+        .split("```json")
+        .nth(1)
+        .and_then(|rest| rest.split("```").next())
+        .expect("section 7.12 prints the answer");
+    let printed: serde_json::Value = serde_json::from_str(block).expect("the answer is JSON");
+    let server = TestServer::start().await;
+    let answer = ModelCatalogServiceClient::new(server.channel().await)
+        .get_server_settings(oxbind_client::v1::GetServerSettingsRequest {})
+        .await
+        .expect("answers")
+        .into_inner();
+    assert_eq!(printed["apiVersion"], answer.api_version.as_str());
+    assert_eq!(answer.service_version, env!("CARGO_PKG_VERSION"));
+    let settings: Vec<serde_json::Value> = answer
+        .settings
+        .iter()
+        .map(|s| serde_json::json!({"name": s.name, "value": s.value, "meaning": s.meaning}))
+        .collect();
+    assert_eq!(printed["settings"], serde_json::Value::Array(settings));
+    server.stop().await;
+}
+
+/// API.md section 10.1: PaO2 imputed from SpO2 0.94 with u 3 percentage
+/// points, seeded Monte Carlo.
+#[tokio::test]
+async fn uncertainty_imputation_example_is_true() {
+    use oxbind_client::v1::{
+        input_uncertainty::Figure, CoverageIntervalKind, FigureOrigin, InputDistribution,
+        ModelComponentStatus, NotConsideredReason, SensitivityMethod, UncertaintyAmount,
+        UncertaintyMethod, UncertaintyRequest,
+    };
+    let server = TestServer::start().await;
+    let mut client = OxygenTransportServiceClient::new(server.channel().await);
+    let r = client
+        .gas_exchange(GasExchangeRequest {
+            fio2: q(21.0, "%"),
+            spo2_fraction: Some(0.94),
+            uncertainty: Some(UncertaintyRequest {
+                inputs: vec![oxbind_client::v1::InputUncertainty {
+                    field: "spo2_fraction".to_owned(),
+                    figure: Some(Figure::StandardUncertainty(UncertaintyAmount {
+                        absolute: q(3.0, "%"),
+                        relative: None,
+                    })),
+                }],
+                method: UncertaintyMethod::MonteCarlo as i32,
+                draw_count: 100_000,
+                seed: 94,
+                ..Default::default()
+            }),
+            ..Default::default()
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    printed(r.spo2_fio2_ratio.unwrap(), "447.619");
+    quantity(&r.imputed_pao2, "70.8714", "mm[Hg]");
+    printed(r.imputed_pao2_fio2_ratio.unwrap(), "337.483");
+    warnings_are(
+        &r.warnings,
+        &[(
+            WarningCode::UncertaintyNotEvaluated,
+            "",
+            WarningSeverity::Informational,
+        )],
+    );
+    assert!(r.warnings[0]
+        .message
+        .starts_with("no uncertainty is evaluated for spo2_fio2_ratio: "));
+    assert_eq!(r.uncertainties.len(), 2);
+    let u = &r.uncertainties[0];
+    assert_eq!(u.value, "imputed_pao2");
+    quantity(&u.estimate, "70.8714", "mm[Hg]");
+    quantity(&u.standard_uncertainty, "26.18", "mm[Hg]");
+    let interval = u.interval.as_ref().unwrap();
+    quantity(&interval.low, "54.90", "mm[Hg]");
+    quantity(&interval.high, "132.84", "mm[Hg]");
+    assert_eq!(interval.probability, 0.95);
+    assert_eq!(
+        interval.kind,
+        CoverageIntervalKind::ProbabilisticallySymmetric as i32
+    );
+    assert_eq!(u.method, UncertaintyMethod::MonteCarlo as i32);
+    assert_eq!(u.method_version, "1");
+    assert!(u.method_reference.starts_with("JCGM 100:2008 "));
+    let fo = u.first_order.as_ref().unwrap();
+    quantity(&fo.standard_uncertainty, "12.81", "mm[Hg]");
+    printed(fo.coverage_factor, "1.95996");
+    let fo_interval = fo.interval.as_ref().unwrap();
+    quantity(&fo_interval.low, "45.76", "mm[Hg]");
+    quantity(&fo_interval.high, "95.99", "mm[Hg]");
+    assert_eq!(
+        fo_interval.kind,
+        CoverageIntervalKind::FirstOrderNormal as i32
+    );
+    let mc = u.monte_carlo.as_ref().unwrap();
+    assert_eq!((mc.draw_count, mc.seed), (100_000, 94));
+    assert!(mc.generator.starts_with("ChaCha8 (rand_chacha 0.9.0, "));
+    assert!(mc.generator.contains("rand_distr 0.5.1"));
+    quantity(&mc.mean, "76.37", "mm[Hg]");
+    quantity(&mc.standard_uncertainty, "26.18", "mm[Hg]");
+    assert_eq!(mc.interval, u.interval);
+    assert_eq!(mc.redrawn_outside_domain_count, 2371);
+    assert_eq!(mc.redrawn_refused_count, 0);
+    let stability = mc.stability.as_ref().unwrap();
+    assert_eq!(
+        (stability.block_count, stability.block_draw_count),
+        (10, 10_000)
+    );
+    quantity(&stability.tolerance, "0.5", "mm[Hg]");
+    // "the block spread of the upper end, 0.66 mm[Hg]" (section 10.1 prose).
+    quantity(&stability.high_spread, "0.66", "mm[Hg]");
+    assert!(!stability.stable);
+    let v = u.validation.as_ref().unwrap();
+    assert_eq!(v.significant_digits, 2);
+    quantity(&v.tolerance, "0.5", "mm[Hg]");
+    quantity(&v.lower_difference, "9.15", "mm[Hg]");
+    quantity(&v.upper_difference, "36.85", "mm[Hg]");
+    assert!(!v.passed);
+    assert_eq!(u.budget.len(), 1);
+    let line = &u.budget[0];
+    assert_eq!(line.field, "spo2_fraction");
+    quantity(&line.estimate, "0.94", "1");
+    quantity(&line.standard_uncertainty, "0.03", "1");
+    printed(line.sensitivity, "427.119");
+    assert_eq!(line.sensitivity_method, SensitivityMethod::Exact as i32);
+    quantity(&line.contribution, "12.81", "mm[Hg]");
+    assert_eq!(line.variance_share, 1.0);
+    assert_eq!(line.origin, FigureOrigin::Stated as i32);
+    assert_eq!(line.divisor, 1.0);
+    assert_eq!(line.distribution, InputDistribution::Normal as i32);
+    let m = u.model_component.as_ref().unwrap();
+    assert_eq!(m.status, ModelComponentStatus::Computed as i32);
+    quantity(&m.standard_uncertainty, "1.49", "mm[Hg]");
+    quantity(&m.half_range, "2.58", "mm[Hg]");
+    quantity(&m.combined_standard_uncertainty, "26.22", "mm[Hg]");
+    assert_eq!(m.values.len(), 6, "the six adult models");
+    assert_eq!(m.values[0].model_id, "severinghaus-1979");
+    quantity(&m.values[0].value, "70.8714", "mm[Hg]");
+    assert!(m.includes_chosen_model);
+    assert!(u.not_considered.is_empty());
+    warnings_are(
+        &u.warnings,
+        &[
+            (
+                WarningCode::UncertaintyFirstOrderNotValidated,
+                "",
+                WarningSeverity::Caution,
+            ),
+            (
+                WarningCode::UncertaintyAsymmetricInterval,
+                "",
+                WarningSeverity::Caution,
+            ),
+            (
+                WarningCode::UncertaintyDrawsRedrawn,
+                "",
+                WarningSeverity::Caution,
+            ),
+            (
+                WarningCode::UncertaintyDrawsBeyondValidatedRange,
+                "spo2_fraction",
+                WarningSeverity::Caution,
+            ),
+            (
+                WarningCode::UncertaintyMonteCarloNotStable,
+                "",
+                WarningSeverity::Caution,
+            ),
+        ],
+    );
+    assert_eq!(
+        u.warnings[0].message,
+        "the first-order interval differs from the Monte Carlo interval by more than the numerical tolerance 5e-1 (JCGM 101 clause 8): rely on the Monte Carlo interval"
+    );
+    assert!(u.warnings[2]
+        .message
+        .starts_with("2.3 % of Monte Carlo draws"));
+    assert_eq!(
+        u.warnings[3].message,
+        "23.6 % of Monte Carlo draws of spo2 lay beyond the range the method was validated for"
+    );
+    assert!(u.warnings[4].message.ends_with("ask for more draws"));
+    // The prose: 16.0 below and 62.0 above the value.
+    let (low, high) = (
+        interval.low.as_ref().unwrap().value,
+        interval.high.as_ref().unwrap().value,
+    );
+    let estimate = u.estimate.as_ref().unwrap().value;
+    printed(estimate - low, "16.0");
+    printed(high - estimate, "62.0");
+    let ratio = &r.uncertainties[1];
+    assert_eq!(ratio.value, "imputed_pao2_fio2_ratio");
+    assert_eq!(ratio.not_considered.len(), 1);
+    assert_eq!(ratio.not_considered[0].field, "fio2");
+    assert_eq!(
+        ratio.not_considered[0].reason,
+        NotConsideredReason::NoFigure as i32
+    );
+    server.stop().await;
+}
+
+/// API.md section 10.2: saturation from PO2, first order, with a profile for
+/// pH.
+#[tokio::test]
+async fn uncertainty_first_order_example_is_true() {
+    use oxbind_client::v1::{
+        input_uncertainty::Figure, CoverageIntervalKind, FigureOrigin, InputUncertainty,
+        ModelComponentStatus, ProfileVerification, SensitivityMethod, UncertaintyAmount,
+        UncertaintyMethod, UncertaintyRequest,
+    };
+    let server = TestServer::start().await;
+    let mut client = dissociation(&server).await;
+    let r = client
+        .saturation_from_tension(SaturationFromTensionRequest {
+            po2: q(62.0, "mm[Hg]"),
+            conditions: Some(BloodConditions {
+                ph: Some(7.31),
+                ..Default::default()
+            }),
+            uncertainty: Some(UncertaintyRequest {
+                inputs: vec![
+                    InputUncertainty {
+                        field: "po2".to_owned(),
+                        figure: Some(Figure::StandardUncertainty(UncertaintyAmount {
+                            absolute: q(3.0, "mm[Hg]"),
+                            relative: None,
+                        })),
+                    },
+                    InputUncertainty {
+                        field: "conditions.ph".to_owned(),
+                        figure: Some(Figure::ProfileId(
+                            "analytical-goal-harding-fraser-1987-ph".to_owned(),
+                        )),
+                    },
+                ],
+                ..Default::default()
+            }),
+            ..Default::default()
+        })
+        .await
+        .unwrap()
+        .into_inner();
+    printed(r.saturation_fraction, "0.889645");
+    quantity(&r.p50_at_conditions, "29.8551", "mm[Hg]");
+    printed(r.hill_slope, "2.96181");
+    warnings_are(
+        &r.warnings,
+        &[(
+            WarningCode::UncertaintyNotEvaluated,
+            "",
+            WarningSeverity::Informational,
+        )],
+    );
+    let u = &r.uncertainties[0];
+    assert_eq!(u.value, "saturation_fraction");
+    quantity(&u.estimate, "0.889645", "1");
+    quantity(&u.standard_uncertainty, "0.014268", "1");
+    let interval = u.interval.as_ref().unwrap();
+    quantity(&interval.low, "0.861681", "1");
+    quantity(&interval.high, "0.917610", "1");
+    assert_eq!(interval.kind, CoverageIntervalKind::FirstOrderNormal as i32);
+    assert_eq!(u.method, UncertaintyMethod::FirstOrder as i32);
+    let fo = u.first_order.as_ref().unwrap();
+    assert_eq!(fo.standard_uncertainty, u.standard_uncertainty);
+    assert_eq!(fo.interval, u.interval);
+    printed(fo.coverage_factor, "1.95996");
+    assert!(u.monte_carlo.is_none() && u.validation.is_none());
+    let (po2, ph) = (&u.budget[0], &u.budget[1]);
+    assert_eq!(po2.field, "po2");
+    quantity(&po2.estimate, "62", "mm[Hg]");
+    quantity(&po2.standard_uncertainty, "3", "mm[Hg]");
+    printed(po2.sensitivity, "0.0046900");
+    assert_eq!(po2.sensitivity_method, SensitivityMethod::Exact as i32);
+    quantity(&po2.contribution, "0.014070", "1");
+    printed(po2.variance_share, "0.972452");
+    assert_eq!(po2.origin, FigureOrigin::Stated as i32);
+    assert_eq!(ph.field, "conditions.ph");
+    quantity(&ph.estimate, "7.31", "[pH]");
+    quantity(&ph.standard_uncertainty, "0.008", "[pH]");
+    printed(ph.sensitivity, "0.296016");
+    assert_eq!(ph.sensitivity_method, SensitivityMethod::Numerical as i32);
+    assert!(ph.sensitivity_error_estimate > 0.0 && ph.sensitivity_error_estimate < 1e-8);
+    quantity(&ph.contribution, "0.002368", "1");
+    printed(ph.variance_share, "0.027548");
+    assert_eq!(ph.origin, FigureOrigin::Profile as i32);
+    assert_eq!(ph.profile_id, "analytical-goal-harding-fraser-1987-ph");
+    assert_eq!(
+        ph.profile_verification,
+        ProfileVerification::Verified as i32
+    );
+    let m = u.model_component.as_ref().unwrap();
+    assert_eq!(m.status, ModelComponentStatus::Computed as i32);
+    quantity(&m.standard_uncertainty, "0.003527", "1");
+    quantity(&m.half_range, "0.006108", "1");
+    quantity(&m.combined_standard_uncertainty, "0.014697", "1");
+    let models: Vec<&str> = m.values.iter().map(|v| v.model_id.as_str()).collect();
+    assert_eq!(
+        models,
+        [
+            "severinghaus-1979",
+            "kelman-1966",
+            "siggaard-andersen-1984",
+            "dash-2016",
+            "hill"
+        ]
+    );
+    assert_eq!(m.excluded.len(), 1);
+    assert_eq!(m.excluded[0].model_id, "adair");
+    assert_eq!(m.excluded[0].reason, "does not take ph into account");
+    warnings_are(
+        &u.warnings,
+        &[
+            (
+                WarningCode::UncertaintyDefaultFigures,
+                "",
+                WarningSeverity::Caution,
+            ),
+            (
+                WarningCode::UncertaintyNonlinear,
+                "po2",
+                WarningSeverity::Caution,
+            ),
+            (
+                WarningCode::UncertaintyFirstOrderNotValidated,
+                "",
+                WarningSeverity::Informational,
+            ),
+        ],
+    );
+    assert!(u.warnings[0].message.starts_with(
+        "built-in default figures were used (analytical-goal-harding-fraser-1987-ph, verified); "
+    ));
+    // "u(PO2) gives 97 % of the variance" (section 10.2 prose).
+    assert_eq!((po2.variance_share * 100.0).round(), 97.0);
     server.stop().await;
 }

@@ -99,23 +99,42 @@ fn the_standard_range_table_is_the_servers() {
         assert_eq!(unquote(&row[3]), range.unit, "{row:?}");
         assert_eq!(row[4], range.source, "{row:?}");
     }
-    // "Every code is always a caution except
-    // WARNING_CODE_CONDITION_NOT_MODELLED" (API.md section 5).
-    for code in [
-        WarningCode::OutsideValidatedRange,
-        WarningCode::PlateauPoorlyDetermined,
-        WarningCode::ImputationNotValid,
-        WarningCode::ConditionNotModelled,
-        WarningCode::Extrapolated,
-        WarningCode::SaturationCalculated,
-    ] {
+    // "Every code is always a caution except three" (API.md section 5):
+    // two graded by the finding, whose usual severity is informational for
+    // the condition and caution for the validation, and one always
+    // informational.
+    for code in all_warning_codes() {
         let caution = usual_severity(code) == WarningSeverity::Caution;
         assert_eq!(
             caution,
-            code != WarningCode::ConditionNotModelled,
+            !matches!(
+                code,
+                WarningCode::ConditionNotModelled | WarningCode::UncertaintyNotEvaluated
+            ),
             "{code:?}"
         );
     }
+}
+
+/// Every warning code of the contract but the zero value.
+fn all_warning_codes() -> Vec<WarningCode> {
+    (1..).map_while(|n| WarningCode::try_from(n).ok()).collect()
+}
+
+#[test]
+fn the_warning_table_lists_every_code() {
+    // The code table (the standard ranges' table follows in the section).
+    let rows = table_after("## 5. Warnings");
+    let documented: Vec<&str> = rows
+        .iter()
+        .map(|r| unquote(&r[0]))
+        .filter(|c| c.starts_with("WARNING_CODE_"))
+        .collect();
+    let codes: Vec<&str> = all_warning_codes()
+        .into_iter()
+        .map(|c| c.as_str_name())
+        .collect();
+    assert_eq!(documented, codes);
 }
 
 /// The code a call ended with.
@@ -208,5 +227,19 @@ async fn the_documented_codes_are_the_ones_a_server_answers_with() {
     );
     for code in seen {
         assert!(documented.contains(&code), "{code:?} is not documented");
+    }
+}
+
+#[test]
+fn the_uncertainty_profile_table_is_the_servers() {
+    use oxbind_service::physiology::uncertainty::profiles::profiles;
+    let rows = table_after("### Built-in profiles");
+    let table = profiles().expect("the compiled-in table parses");
+    assert_eq!(rows.len(), table.len());
+    for (row, p) in rows.iter().zip(table) {
+        assert_eq!(unquote(&row[0]), p.id, "{row:?}");
+        assert_eq!(unquote(&row[1]), p.set, "{row:?}");
+        assert_eq!(unquote(&row[2]), p.input.name(), "{row:?}");
+        assert_eq!(unquote(&row[4]), p.verification.name(), "{row:?}");
     }
 }

@@ -261,6 +261,7 @@ fn saturation_request() -> impl Strategy<Value = SaturationFromTensionRequest> {
                 model,
                 hill,
                 unit_system,
+                uncertainty: None,
             }
         })
 }
@@ -274,6 +275,7 @@ fn tension_request() -> impl Strategy<Value = TensionFromSaturationRequest> {
                 model,
                 hill,
                 unit_system,
+                uncertainty: None,
             }
         },
     )
@@ -466,6 +468,7 @@ fn shift_factors_p50_and_temperature_correction_only_accept_or_name_a_field() {
                 conditions,
                 model,
                 unit_system,
+                uncertainty: None,
             };
             h.runtime.block_on(async {
                 accepted_or_refused(h.dissociation().shift_factors(request).await);
@@ -537,6 +540,7 @@ fn oxygen_content_and_gas_exchange_only_accept_or_name_a_field() {
                 cardiac_output,
                 hufner_factor_ml_per_g,
                 unit_system,
+                uncertainty: None,
             };
             h.runtime.block_on(async {
                 accepted_or_refused(h.transport().oxygen_content(request).await);
@@ -590,6 +594,7 @@ fn oxygen_content_and_gas_exchange_only_accept_or_name_a_field() {
                 unit_system,
                 arterial,
                 alveolar_equation,
+                uncertainty: None,
             };
             h.runtime.block_on(async {
                 accepted_or_refused(h.transport().gas_exchange(request).await);

@@ -301,6 +301,102 @@ async fn warnings_and_a_bad_batch_item_come_through_in_json() {
 }
 
 #[tokio::test]
+async fn an_uncertainty_call_answers_in_json_as_over_grpc() {
+    let server = TestServer::start().await;
+    let pool = descriptor_pool();
+    let rpc = "oxbind.v1.OxygenTransportService/GasExchange";
+    let path = format!("/{rpc}");
+    let method = method(&pool, rpc);
+    // PaO2 imputed from SpO2 0.94 with u 3 percentage points, seeded Monte
+    // Carlo, and a first-order PaO2/FiO2 beside it.
+    let body = json!({
+        "fio2": {"value": 30, "unit": "%"},
+        "pao2": {"value": 75, "unit": "mm[Hg]"},
+        "spo2Fraction": 0.94,
+        "uncertainty": {
+            "inputs": [
+                {"field": "spo2_fraction", "standardUncertainty": {"absolute": {"value": 3, "unit": "%"}}},
+                {"field": "pao2", "bound": {"halfWidth": {"absolute": {"value": 15, "unit": "mm[Hg]"},
+                    "relative": {"value": 15, "unit": "%"}}, "shape": "BOUND_SHAPE_NORMAL", "coveragePercent": 0}}
+            ],
+            "method": "UNCERTAINTY_METHOD_MONTE_CARLO",
+            "drawCount": 20000,
+            "seed": "11",
+            "intervalKind": "COVERAGE_INTERVAL_KIND_SHORTEST"
+        }
+    });
+    // An unknown JSON key is refused (the Connect door reads the mapping
+    // strictly), so the misspelt key above is caught before anything runs.
+    let refused = send(
+        server.address(),
+        Version::Http1,
+        connect_post(&path, "application/json", body.to_string()),
+    )
+    .await;
+    assert_eq!(
+        refused.status,
+        400,
+        "{}",
+        String::from_utf8_lossy(&refused.body)
+    );
+    let mut body = body;
+    let bound = &mut body["uncertainty"]["inputs"][1]["bound"];
+    bound.as_object_mut().unwrap().remove("coveragePercent");
+    bound["coverageProbability"] = json!(0.95);
+    let json_request = body.to_string();
+    let answer = send(
+        server.address(),
+        Version::Http1,
+        connect_post(&path, "application/json", json_request.clone()),
+    )
+    .await;
+    assert_eq!(
+        answer.status,
+        200,
+        "{}",
+        String::from_utf8_lossy(&answer.body)
+    );
+    let json = answer.json();
+    let results = json["uncertainties"].as_array().unwrap();
+    let values: Vec<&str> = results
+        .iter()
+        .map(|r| r["value"].as_str().unwrap())
+        .collect();
+    assert_eq!(
+        values,
+        ["pao2_fio2_ratio", "imputed_pao2", "imputed_pao2_fio2_ratio"]
+    );
+    let imputed = &results[1];
+    assert_eq!(imputed["method"], "UNCERTAINTY_METHOD_MONTE_CARLO");
+    // 64-bit integers are strings in the JSON mapping.
+    assert_eq!(imputed["monteCarlo"]["drawCount"], "20000");
+    assert_eq!(imputed["monteCarlo"]["seed"], "11");
+    assert_eq!(
+        imputed["interval"]["kind"],
+        "COVERAGE_INTERVAL_KIND_SHORTEST"
+    );
+    assert_eq!(imputed["interval"]["low"]["unit"], "mm[Hg]");
+    // The CLIA-style bound: a = max(15, 15 % of 75) = 15 mm[Hg] at 95 %.
+    let line = &results[0]["budget"][0];
+    assert_eq!(line["field"], "pao2");
+    assert!((line["divisor"].as_f64().unwrap() - 1.959_964).abs() < 1e-6);
+    // The same request over gRPC gives the same message (Monte Carlo
+    // included: the seed fixes every draw).
+    let proto_request = reflect_read(&method.input(), json_request.as_bytes());
+    let grpc = grpc_unary_bytes(server.channel().await, &path, proto_request)
+        .await
+        .expect("gRPC computes");
+    assert_eq!(
+        reflect_json(&method.output(), &grpc),
+        reflect_json(
+            &method.output(),
+            &reflect_read(&method.output(), &answer.body)
+        )
+    );
+    server.stop().await;
+}
+
+#[tokio::test]
 async fn the_get_form_takes_base64_proto_and_says_what_is_missing() {
     let server = TestServer::start().await;
     let proto = oxbind_proto::v1::SaturationFromTensionRequest {

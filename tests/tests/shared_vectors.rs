@@ -87,6 +87,9 @@ async fn call(channel: Channel, rpc: &str, body: &[u8]) -> Result<Vec<u8>, tonic
         "oxbind.v1.ModelCatalogService/ListModels" => {
             unary!(Catalog, channel, list_models, body)
         }
+        "oxbind.v1.ModelCatalogService/GetServerSettings" => {
+            unary!(Catalog, channel, get_server_settings, body)
+        }
         "oxbind.v1.ConsistencyService/CheckBloodGas" => {
             unary!(ConsistencyServiceClient, channel, check_blood_gas, body)
         }

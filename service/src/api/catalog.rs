@@ -1,6 +1,6 @@
 //! `oxbind.v1.ModelCatalogService`: every model, from the same table the
-//! engine uses, and the hard input limits, from the same table validation
-//! uses.
+//! engine uses, the hard input limits, from the same table validation uses,
+//! and the built-in uncertainty profiles, from the engine's profile table.
 
 use oxbind_proto::v1::{
     HillPreset, HillPresetDescription, InputLimit, ListModelsRequest, ListModelsResponse,
@@ -19,9 +19,15 @@ use crate::physiology::{
 pub const CAUTIONS: &str = "Oxbind results are decision support only. They are computed from \
 published equations and do not replace measured co-oximetry or the judgement of a licensed \
 clinician. Local laboratory policy decides which values are reported, in which units and with \
-which model. Pass every warning on with the value it concerns. Consistency findings \
-(ConsistencyService) support the laboratory's review of a result and do not reject results: \
-local laboratory policy decides what happens to a discordant sample.";
+which model. Pass every warning on with the value it concerns. An uncertainty interval describes \
+the arithmetic from the figures stated for the inputs, not the patient; the built-in profiles are \
+fallbacks, some not verified at their source (see uncertainty_profiles), and a laboratory's own \
+imprecision and a device's own accuracy describe its results better. Pulse-oximetry bias by skin \
+pigmentation (and by low perfusion or dyshaemoglobins) is not included in any uncertainty unless \
+the caller gives it as a figure: the pulse-oximeter accuracy figures come from laboratory studies \
+in healthy volunteers. Consistency findings (ConsistencyService) support the laboratory's review \
+of a result and do not reject results: local laboratory policy decides what happens to a \
+discordant sample.";
 
 /// Source of the adult Hill preset.
 const ADULT_PRESET_SOURCE: &str = "n 2.7: Severinghaus JW, J Appl Physiol 1979;46(3):599-602 \
@@ -34,7 +40,7 @@ const MYOGLOBIN_PRESET_SOURCE: &str = "n 1 (a single binding site: hyperbolic cu
 practice); P50 2.8 mm[Hg] at 37 Cel from memory (about 2 Torr per Wikibooks Structural Biochemistry)";
 
 /// The wire enum value of a catalog model id.
-fn wire_model(id: &str) -> WireModel {
+pub fn wire_model(id: &str) -> WireModel {
     match id {
         "severinghaus-1979" => WireModel::Severinghaus1979,
         "kelman-1966" => WireModel::Kelman1966,
@@ -174,5 +180,6 @@ pub fn list_models(max_batch_items: usize) -> ListModelsResponse {
         models: catalog().iter().map(|info| describe(info)).collect(),
         cautions: CAUTIONS.to_owned(),
         input_limits,
+        uncertainty_profiles: super::uncertainty::catalog_profiles(),
     }
 }

@@ -5,7 +5,9 @@
 //! a model's validated range are soft limits: they compute and draw a warning
 //! (see the model descriptions in the physiology engine).
 
-use crate::physiology::{conditions, content, gas_exchange, hill, temperature};
+use crate::physiology::{
+    conditions, content, gas_exchange, hill, temperature, uncertainty as physiology_uncertainty,
+};
 
 /// Highest partial or barometric pressure accepted, mmHg: ten standard
 /// atmospheres, beyond any hyperbaric treatment (our judgement). The engine
@@ -68,18 +70,23 @@ impl HardLimit {
         above_min && below_max
     }
 
-    /// The accepted interval in interval notation, e.g. `(0, 7600] mm[Hg]`.
+    /// The accepted interval in interval notation, e.g. `(0, 7600] mm[Hg]`,
+    /// or `[0, no upper limit)` for a limit that only needs a finite value.
     pub fn describe(&self) -> String {
         let unit = if self.unit == "1" {
             String::new()
         } else {
             format!(" {}", self.unit)
         };
+        let max = if self.max.is_infinite() {
+            "no upper limit".to_owned()
+        } else {
+            self.max.to_string()
+        };
         format!(
-            "{}{}, {}{}{unit}",
+            "{}{}, {max}{}{unit}",
             if self.min_inclusive { "[" } else { "(" },
             self.min,
-            self.max,
             if self.max_inclusive { "]" } else { ")" },
         )
     }
@@ -481,6 +488,152 @@ pub const MEASURED_PAIRS: HardLimit = HardLimit {
     reason: "a P50 needs at least one measured pair; 10,000 bounds the fit's work",
 };
 
+/// Monte Carlo draws per uncertainty evaluation (one derived value).
+///
+/// The floor is JCGM 101:2008 clause 7.9.4's 100/(1 − p) draws at the
+/// largest coverage probability accepted, 0.99 (so each tail of the
+/// interval holds at least 100 draws). The ceiling is 10⁶, ten times below
+/// the engine's own 10⁷ ([`crate::physiology::uncertainty::MAX_DRAWS`]):
+/// JCGM 101 clause 7.2.2 says 10⁶ draws can often be expected to give a 95 %
+/// interval correct to one or two significant digits, and 10⁶ draws take
+/// 0.05 to 0.2 s per value on one core (10⁵ take 5 to 21 ms,
+/// service/BENCHMARKS-uncertainty.md), so a GasExchange call with its five
+/// values stays near a second, inside the default 10 s call timeout, and
+/// holds 8 MB of draws at a time.
+pub const UNCERTAINTY_DRAWS: HardLimit = HardLimit {
+    input: "uncertainty_draws",
+    fields: &["uncertainty.draw_count"],
+    unit: "1",
+    unit_key: "draws",
+    min: 10_000.0,
+    min_inclusive: true,
+    max: 1_000_000.0,
+    max_inclusive: true,
+    error_reason: "DRAW_COUNT_OUT_OF_RANGE",
+    reason: "JCGM 101:2008 7.9.4 asks for at least 100/(1 - p) draws, 10,000 at the largest coverage probability accepted (0.99); 10^6 draws (JCGM 101 7.2.2: often enough for a 95 % interval correct to one or two significant digits) keep a five-value call near a second on one core, inside the call timeout",
+};
+
+/// Coverage probability of an uncertainty interval.
+pub const UNCERTAINTY_COVERAGE_PROBABILITY: HardLimit = HardLimit {
+    input: "uncertainty_coverage_probability",
+    fields: &["uncertainty.coverage_probability"],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.5,
+    min_inclusive: true,
+    max: 0.99,
+    max_inclusive: true,
+    error_reason: "COVERAGE_PROBABILITY_OUT_OF_RANGE",
+    reason: "below one half an interval says little; above 0.99 the smallest accepted Monte Carlo run (10,000 draws) no longer leaves 100 draws in each tail (JCGM 101:2008 7.9.4)",
+};
+
+/// Significant digits of a standard uncertainty, for the numerical
+/// tolerance of JCGM 101's validation and stability check.
+pub const UNCERTAINTY_SIGNIFICANT_DIGITS: HardLimit = HardLimit {
+    input: "uncertainty_significant_digits",
+    fields: &["uncertainty.significant_digits"],
+    unit: "1",
+    unit_key: "digits",
+    min: 1.0,
+    min_inclusive: true,
+    max: physiology_uncertainty::evaluate::MAX_SIGNIFICANT_DIGITS as f64,
+    max_inclusive: true,
+    error_reason: "SIGNIFICANT_DIGITS_OUT_OF_RANGE",
+    reason: "one or two significant digits of a standard uncertainty are usually meaningful (JCGM 101:2008 7.9.2); four is the engine's own limit",
+};
+
+/// Figures per uncertainty request.
+pub const UNCERTAINTY_FIGURES: HardLimit = HardLimit {
+    input: "uncertainty_figures",
+    fields: &["uncertainty.inputs"],
+    unit: "1",
+    unit_key: "figures",
+    min: 0.0,
+    min_inclusive: true,
+    max: 32.0,
+    max_inclusive: true,
+    error_reason: "TOO_MANY_UNCERTAINTY_FIGURES",
+    reason: "one figure per input, and no request has more than 32 inputs",
+};
+
+/// The absolute part of an uncertainty figure, in the unit of the input it
+/// is for.
+pub const UNCERTAINTY_ABSOLUTE: HardLimit = HardLimit {
+    input: "uncertainty_absolute",
+    fields: &[
+        "uncertainty.inputs[].standard_uncertainty.absolute",
+        "uncertainty.inputs[].bound.half_width.absolute",
+    ],
+    unit: "1",
+    unit_key: "input_unit",
+    min: 0.0,
+    min_inclusive: true,
+    max: f64::INFINITY,
+    max_inclusive: false,
+    error_reason: "UNCERTAINTY_OUT_OF_RANGE",
+    reason: "an uncertainty is a spread, never negative; it is stated in a unit the input's own field accepts",
+};
+
+/// The relative part of an uncertainty figure, a fraction of the input's
+/// value.
+pub const UNCERTAINTY_RELATIVE: HardLimit = HardLimit {
+    input: "uncertainty_relative",
+    fields: &[
+        "uncertainty.inputs[].standard_uncertainty.relative",
+        "uncertainty.inputs[].bound.half_width.relative",
+    ],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1.0,
+    max_inclusive: true,
+    error_reason: "UNCERTAINTY_OUT_OF_RANGE",
+    reason: "a relative uncertainty is a fraction of the value, never negative; beyond 100 % of the value the input is not known at all",
+};
+
+/// The coverage probability of a normal bound.
+pub const UNCERTAINTY_BOUND_COVERAGE: HardLimit = HardLimit {
+    input: "uncertainty_bound_coverage",
+    fields: &["uncertainty.inputs[].bound.coverage_probability"],
+    unit: "1",
+    unit_key: "fraction",
+    min: 0.0,
+    min_inclusive: false,
+    max: 1.0,
+    max_inclusive: false,
+    error_reason: "COVERAGE_PROBABILITY_OUT_OF_RANGE",
+    reason: "a bound covers some but not all of a normal distribution: 0 gives no divisor and 1 an infinite one",
+};
+
+/// The coverage factor of an expanded uncertainty.
+pub const UNCERTAINTY_COVERAGE_FACTOR: HardLimit = HardLimit {
+    input: "uncertainty_coverage_factor",
+    fields: &["uncertainty.inputs[].bound.coverage_factor"],
+    unit: "1",
+    unit_key: "dimensionless",
+    min: 0.0,
+    min_inclusive: false,
+    max: f64::INFINITY,
+    max_inclusive: false,
+    error_reason: "COVERAGE_FACTOR_OUT_OF_RANGE",
+    reason: "the standard uncertainty is the expanded uncertainty divided by k, so k must be a finite number above 0",
+};
+
+/// The top-to-base ratio of a trapezoidal bound.
+pub const UNCERTAINTY_TRAPEZOID_RATIO: HardLimit = HardLimit {
+    input: "uncertainty_trapezoid_ratio",
+    fields: &["uncertainty.inputs[].bound.trapezoid_top_ratio"],
+    unit: "1",
+    unit_key: "dimensionless",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1.0,
+    max_inclusive: true,
+    error_reason: "TRAPEZOID_RATIO_OUT_OF_RANGE",
+    reason: "a trapezoid's top lies between a point (0, the triangle) and its whole base (1, the rectangle)",
+};
+
 /// Bicarbonate (or total CO2) of a blood-gas sample.
 pub const BICARBONATE: HardLimit = HardLimit {
     input: "bicarbonate",
@@ -524,7 +677,7 @@ pub const COVERAGE_PROBABILITY: HardLimit = HardLimit {
 };
 
 /// Every hard limit, in the order the catalog lists them.
-pub const ALL: [&HardLimit; 25] = [
+pub const ALL: [&HardLimit; 34] = [
     &PH,
     &PRESSURE,
     &CONDITIONS_PCO2,
@@ -547,6 +700,15 @@ pub const ALL: [&HardLimit; 25] = [
     &CURVE_POINTS,
     &CURVE_CONDITION_SETS,
     &MEASURED_PAIRS,
+    &UNCERTAINTY_DRAWS,
+    &UNCERTAINTY_COVERAGE_PROBABILITY,
+    &UNCERTAINTY_SIGNIFICANT_DIGITS,
+    &UNCERTAINTY_FIGURES,
+    &UNCERTAINTY_ABSOLUTE,
+    &UNCERTAINTY_RELATIVE,
+    &UNCERTAINTY_BOUND_COVERAGE,
+    &UNCERTAINTY_COVERAGE_FACTOR,
+    &UNCERTAINTY_TRAPEZOID_RATIO,
     &BICARBONATE,
     &WHITE_CELL_COUNT,
     &COVERAGE_PROBABILITY,

@@ -57,13 +57,27 @@ macro_rules! observed_by_provenance_and_warnings {
     };
 }
 
-observed_by_provenance_and_warnings!(
+observed_by_provenance_and_warnings!(Curve, EstimateP50Response, CorrectForTemperatureResponse);
+
+/// Responses that may also carry uncertainty results, whose warnings are
+/// recorded too.
+macro_rules! observed_with_uncertainties {
+    ($($response:ty),* $(,)?) => {
+        $(impl Observed for $response {
+            fn observe(&self) {
+                result(self.provenance.as_ref(), &self.warnings);
+                for u in &self.uncertainties {
+                    result(None, &u.warnings);
+                }
+            }
+        })*
+    };
+}
+
+observed_with_uncertainties!(
     SaturationFromTensionResponse,
     TensionFromSaturationResponse,
-    Curve,
     ShiftFactorsResponse,
-    EstimateP50Response,
-    CorrectForTemperatureResponse,
     OxygenContentResponse,
     GasExchangeResponse,
 );

@@ -44,6 +44,16 @@ pub const REASON_BATCH_EMPTY: &str = "BATCH_EMPTY";
 pub const REASON_BATCH_TOO_LARGE: &str = "BATCH_TOO_LARGE";
 /// ErrorInfo reason: the engine refused a value outside its own range.
 pub const REASON_OUT_OF_RANGE: &str = "VALUE_OUT_OF_RANGE";
+/// ErrorInfo reason: an uncertainty figure names a field that is not a
+/// numeric input of the request.
+pub const REASON_UNCERTAINTY_FIELD: &str = "UNCERTAINTY_FIELD_UNKNOWN";
+/// ErrorInfo reason: an uncertainty figure or profile set that cannot be
+/// used as given (an unknown profile, one for another kind of input, two
+/// figures for one input).
+pub const REASON_UNCERTAINTY_FIGURE: &str = "UNCERTAINTY_FIGURE_NOT_USABLE";
+/// ErrorInfo reason: a Monte Carlo run abandoned because the stated
+/// distributions put most draws outside what the inputs can be.
+pub const REASON_UNCERTAINTY_DRAWS: &str = "UNCERTAINTY_DRAWS_REJECTED";
 /// ErrorInfo reason: a request body that is not a message of the RPC's
 /// request type in the encoding it names (a door that decodes the message
 /// itself, such as Connect, refuses with it).
@@ -104,15 +114,18 @@ impl Violation {
     /// A value outside a hard limit.
     pub fn outside_limit(path: &FieldPath<'_>, limit: &HardLimit) -> Self {
         let field = path.render();
+        let mut metadata = vec![(format!("min_{}", limit.unit_key), limit.min.to_string())];
+        // A limit with no upper end has no max key (and needs only a finite
+        // value).
+        if limit.max.is_finite() {
+            metadata.push((format!("max_{}", limit.unit_key), limit.max.to_string()));
+        }
+        metadata.push(("min_inclusive".to_owned(), limit.min_inclusive.to_string()));
+        metadata.push(("max_inclusive".to_owned(), limit.max_inclusive.to_string()));
         Self {
             description: format!("{field} must lie in {}: {}", limit.describe(), limit.reason),
             reason: limit.error_reason,
-            metadata: vec![
-                (format!("min_{}", limit.unit_key), limit.min.to_string()),
-                (format!("max_{}", limit.unit_key), limit.max.to_string()),
-                ("min_inclusive".to_owned(), limit.min_inclusive.to_string()),
-                ("max_inclusive".to_owned(), limit.max_inclusive.to_string()),
-            ],
+            metadata,
             field,
         }
     }

@@ -16,15 +16,20 @@ use super::{
     provenance::{self, Method},
     reader::RequestReader,
     status::{InvalidRequest, Violation, REASON_INCONSISTENT, REASON_UNKNOWN_ENUM},
+    uncertainty::{self, Call, Requested, ValueUnit},
     units::{self, QuantityKind},
     warnings::{condition_field, warning},
 };
 use crate::physiology::{
-    conditions::Condition,
+    conditions::{Condition, Conditions},
     content::{self, BloodOxygenSample, OxygenTransportInput, SaturationKind},
     error::{Input, PhysiologyError},
     gas_exchange::{self, AlveolarGasForm, AlveolarGasInput, ShuntInput},
-    model::DissociationModel,
+    model::{DissociationModel, Model},
+    uncertainty::{
+        AlveolarInputs, AlveolarValue, ContentInputs, ContentSample, DerivedQuantity, ImputedPao2,
+        OxygenContentValue, Pao2Fio2Ratio, SampleSaturation,
+    },
 };
 
 /// The published methods behind oxygen content and transport.
@@ -50,6 +55,9 @@ Chest 2016;150(2):307-313 (the Ellis 1989 inverse of Severinghaus 1979 Eq. 1)",
 struct ReadSample {
     sample: BloodOxygenSample,
     calculated: bool,
+    /// The model and conditions a calculated saturation came from.
+    model: Model,
+    conditions: Conditions,
     /// Conditions or a model were given with a measured saturation, which
     /// makes them unused.
     unused_conditions: bool,
@@ -164,8 +172,32 @@ fn read_sample(
             methb_fraction: conditions.methb_fraction,
         },
         calculated,
+        model,
+        conditions,
         unused_conditions,
     })
+}
+
+impl ReadSample {
+    /// The sample as the uncertainty engine takes it.
+    fn content_sample(&self) -> ContentSample {
+        ContentSample {
+            saturation: if self.calculated {
+                SampleSaturation::Calculated {
+                    model: self.model,
+                    conditions: self.conditions,
+                }
+            } else {
+                SampleSaturation::Measured {
+                    fraction: self.sample.saturation_fraction,
+                    kind: self.sample.saturation_kind,
+                }
+            },
+            po2_mmhg: self.sample.po2_mmhg,
+            cohb_fraction: self.sample.cohb_fraction,
+            methb_fraction: self.sample.methb_fraction,
+        }
+    }
 }
 
 /// The request field an engine refusal names when a sample's saturation is
@@ -290,6 +322,12 @@ fn oxygen_content_response(
             QuantityKind::Fraction,
         )
     });
+    let requested = uncertainty::read(
+        &mut reader,
+        request.uncertainty.as_ref(),
+        &uncertainty::OXYGEN_CONTENT_INPUTS,
+        Call::Single,
+    );
     let inputs_used = reader.finish()?;
     let (Some(hemoglobin), Some(arterial)) = (hemoglobin, arterial) else {
         // finish() has already refused any request lacking either.
@@ -318,6 +356,26 @@ fn oxygen_content_response(
     }
     let content = |v: f64| units::from_engine(v, QuantityKind::OxygenContent, system);
     let flow = |v: f64| units::from_engine(v, QuantityKind::OxygenFlow, system);
+    let uncertainties = match &requested {
+        Some(requested) => {
+            let inputs = ContentInputs {
+                hemoglobin_g_per_dl: hemoglobin,
+                hufner_factor_ml_per_g: hufner,
+                arterial: arterial.content_sample(),
+                venous: venous.as_ref().map(ReadSample::content_sample),
+            };
+            let mut not_evaluated = vec!["oxygen_capacity"];
+            if transport.delivery_ml_per_min.is_some() {
+                not_evaluated.push("delivery");
+            }
+            if transport.consumption_ml_per_min.is_some() {
+                not_evaluated.push("consumption");
+            }
+            found.extend(uncertainty::not_evaluated(&not_evaluated));
+            content_uncertainties(requested, inputs, system)?
+        }
+        None => Vec::new(),
+    };
     Ok(OxygenContentResponse {
         arterial_content: Some(content(transport.arterial.total_ml_per_dl)),
         venous_content: transport.venous.map(|v| content(v.total_ml_per_dl)),
@@ -332,7 +390,49 @@ fn oxygen_content_response(
             true,
         )),
         warnings: found,
+        uncertainties,
     })
+}
+
+/// The uncertainty of each content value the response carries, in its
+/// order: arterial, then (with a venous sample) venous, the difference and
+/// the extraction.
+fn content_uncertainties(
+    requested: &Requested,
+    inputs: ContentInputs,
+    system: oxbind_proto::v1::UnitSystem,
+) -> Result<Vec<oxbind_proto::v1::UncertaintyResult>, InvalidRequest> {
+    let mut values = vec![(
+        "arterial_content",
+        DerivedQuantity::ArterialContent,
+        ValueUnit::OxygenContent,
+    )];
+    if inputs.venous.is_some() {
+        values.extend([
+            (
+                "venous_content",
+                DerivedQuantity::VenousContent,
+                ValueUnit::OxygenContent,
+            ),
+            (
+                "arteriovenous_difference",
+                DerivedQuantity::ArteriovenousDifference,
+                ValueUnit::OxygenContent,
+            ),
+            (
+                "extraction_fraction",
+                DerivedQuantity::ExtractionFraction,
+                ValueUnit::Fraction,
+            ),
+        ]);
+    }
+    values
+        .into_iter()
+        .map(|(name, quantity, unit)| {
+            let f = OxygenContentValue::new(quantity, inputs).map_err(|e| engine_refusal(&e))?;
+            requested.evaluate(name, &f, unit, system)
+        })
+        .collect()
 }
 
 /// Why the shunt inputs are required together.
@@ -467,6 +567,12 @@ fn gas_exchange_response(
             .as_ref()
             .and_then(|v| read_sample(&mut reader, v, &root.field("venous"), None));
     }
+    let requested = uncertainty::read(
+        &mut reader,
+        request.uncertainty.as_ref(),
+        &uncertainty::GAS_EXCHANGE_INPUTS,
+        Call::Single,
+    );
     let mut inputs_used = reader.finish()?;
     let fio2 = fio2.unwrap_or(gas_exchange::FIO2_MIN_FRACTION);
     let refuse = |e: PhysiologyError| engine_refusal(&e);
@@ -553,6 +659,31 @@ fn gas_exchange_response(
         sample_warnings(arterial, "arterial", &mut found);
         sample_warnings(venous, "venous", &mut found);
     }
+    if let Some(requested) = &requested {
+        let alveolar_inputs = AlveolarInputs {
+            fio2_fraction: fio2,
+            barometric_pressure_mmhg: barometric,
+            paco2_mmhg: paco2.unwrap_or_default(),
+            respiratory_quotient: quotient,
+            body_temperature_celsius: body_temperature,
+            form,
+        };
+        response.uncertainties =
+            gas_exchange_uncertainties(requested, &response, alveolar_inputs, pao2, spo2, system)?;
+        let not_evaluated: Vec<&str> = [
+            ("spo2_fio2_ratio", response.spo2_fio2_ratio.is_some()),
+            ("oxygenation_index", response.oxygenation_index.is_some()),
+            (
+                "oxygen_saturation_index",
+                response.oxygen_saturation_index.is_some(),
+            ),
+            ("shunt_fraction", response.shunt_fraction.is_some()),
+        ]
+        .into_iter()
+        .filter_map(|(name, set)| set.then_some(name))
+        .collect();
+        found.extend(uncertainty::not_evaluated(&not_evaluated));
+    }
     response.provenance = Some(provenance::for_method(
         &GAS_EXCHANGE_METHOD,
         inputs_used,
@@ -560,4 +691,43 @@ fn gas_exchange_response(
     ));
     response.warnings = found;
     Ok(response)
+}
+
+/// The uncertainty of each gas-exchange value the response carries, in the
+/// order alveolar PO2, A-a gradient, PaO2/FiO2, imputed PaO2, imputed
+/// PaO2/FiO2.
+fn gas_exchange_uncertainties(
+    requested: &Requested,
+    response: &GasExchangeResponse,
+    alveolar: AlveolarInputs,
+    pao2: Option<f64>,
+    spo2: Option<f64>,
+    system: oxbind_proto::v1::UnitSystem,
+) -> Result<Vec<oxbind_proto::v1::UncertaintyResult>, InvalidRequest> {
+    let refuse = |e: PhysiologyError| engine_refusal(&e);
+    let mut out = Vec::new();
+    if response.alveolar_po2.is_some() {
+        let f = AlveolarValue::alveolar_po2(alveolar).map_err(refuse)?;
+        out.push(requested.evaluate("alveolar_po2", &f, ValueUnit::Pressure, system)?);
+    }
+    if let (Some(pao2), true) = (pao2, response.alveolar_arterial_gradient.is_some()) {
+        let f = AlveolarValue::gradient(alveolar, pao2).map_err(refuse)?;
+        out.push(requested.evaluate(
+            "alveolar_arterial_gradient",
+            &f,
+            ValueUnit::Pressure,
+            system,
+        )?);
+    }
+    if let (Some(pao2), true) = (pao2, response.pao2_fio2_ratio.is_some()) {
+        let f = Pao2Fio2Ratio::new(pao2, alveolar.fio2_fraction).map_err(refuse)?;
+        out.push(requested.evaluate("pao2_fio2_ratio", &f, ValueUnit::Pressure, system)?);
+    }
+    if let (Some(spo2), true) = (spo2, response.imputed_pao2.is_some()) {
+        let f = ImputedPao2::new(spo2).map_err(refuse)?;
+        out.push(requested.evaluate("imputed_pao2", &f, ValueUnit::Pressure, system)?);
+        let f = ImputedPao2::over_fio2(spo2, alveolar.fio2_fraction).map_err(refuse)?;
+        out.push(requested.evaluate("imputed_pao2_fio2_ratio", &f, ValueUnit::Pressure, system)?);
+    }
+    Ok(out)
 }

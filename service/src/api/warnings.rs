@@ -45,13 +45,27 @@ pub fn with_severity(
 /// blood condition is graded by its value in [`unmodelled_conditions`].
 pub fn usual_severity(code: WarningCode) -> WarningSeverity {
     match code {
-        WarningCode::ConditionNotModelled => WarningSeverity::Informational,
-        WarningCode::Unspecified
+        WarningCode::ConditionNotModelled | WarningCode::UncertaintyNotEvaluated => {
+            WarningSeverity::Informational
+        }
+        // Informational only when just the first order was asked for (the
+        // uncertainty module says so); a failed validation is a caution.
+        WarningCode::UncertaintyFirstOrderNotValidated
+        | WarningCode::Unspecified
         | WarningCode::OutsideValidatedRange
         | WarningCode::PlateauPoorlyDetermined
         | WarningCode::ImputationNotValid
         | WarningCode::Extrapolated
-        | WarningCode::SaturationCalculated => WarningSeverity::Caution,
+        | WarningCode::SaturationCalculated
+        | WarningCode::UncertaintyNonlinear
+        | WarningCode::UncertaintyAsymmetricInterval
+        | WarningCode::UncertaintyDefaultFigures
+        | WarningCode::UncertaintyUnverifiedFigure
+        | WarningCode::UncertaintyPulseOximetryBiasNotIncluded
+        | WarningCode::UncertaintyDrawsRedrawn
+        | WarningCode::UncertaintyDrawsBeyondValidatedRange
+        | WarningCode::UncertaintyMonteCarloNotStable
+        | WarningCode::UncertaintyNoInputFigures => WarningSeverity::Caution,
     }
 }
 

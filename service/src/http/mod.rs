@@ -7,6 +7,7 @@
 //!
 //! | request | door |
 //! | --- | --- |
+//! | a path under `/fhir/r4` | the FHIR R4 door ([`fhir`]), whatever the content type |
 //! | `content-type: application/grpc*` over HTTP/2 | on to the gRPC stack |
 //! | `content-type: application/grpc*` over HTTP/1.1 | refused here: 505 (gRPC needs HTTP/2) |
 //! | `content-type: application/grpc-web*` | on to the gRPC stack with `--grpc-web`, else refused: 415 |
@@ -17,10 +18,9 @@
 //!
 //! Only gRPC and grpc-web requests (and requests for no door at all) reach
 //! the gRPC stack, so a gRPC-only strictness layer can sit behind this one.
-//! The FHIR door (issue 12) joins here as one more row: a `/fhir/r4/` path
-//! prefix, checked before the content types.
 
 pub mod connect;
+pub mod fhir;
 
 use std::{
     convert::Infallible,
@@ -52,6 +52,8 @@ pub enum Door {
     Grpc,
     /// The Connect protocol.
     Connect,
+    /// The FHIR R4 door.
+    Fhir,
     /// Refused here, with this HTTP status.
     Refuse(StatusCode),
 }
@@ -93,6 +95,9 @@ pub fn door_for(head: RequestHead<'_>, grpc_web: bool) -> Door {
         query,
         headers,
     } = head;
+    if fhir::door::is_fhir_path(path) {
+        return Door::Fhir;
+    }
     let content_type = headers
         .get(header::CONTENT_TYPE)
         .and_then(|v| v.to_str().ok());
@@ -171,27 +176,33 @@ fn refusal(status: StatusCode) -> Response<Body> {
 
 /// The layer that puts the dispatch in front of the gRPC stack.
 #[derive(Debug, Clone)]
-pub struct DispatchLayer<C> {
+pub struct DispatchLayer<C, F> {
     connect: C,
+    fhir: F,
     grpc_web: bool,
 }
 
-impl<C> DispatchLayer<C> {
-    /// Send Connect requests to `connect` (the Connect door, with its own
-    /// per-call layer); gRPC (and grpc-web when `grpc_web` is served) go to
-    /// the wrapped service.
-    pub fn new(connect: C, grpc_web: bool) -> Self {
-        Self { connect, grpc_web }
+impl<C, F> DispatchLayer<C, F> {
+    /// Send Connect requests to `connect` and FHIR requests to `fhir` (each
+    /// door with its own copy of the per-call layer); gRPC (and grpc-web when
+    /// `grpc_web` is served) go to the wrapped service.
+    pub fn new(connect: C, fhir: F, grpc_web: bool) -> Self {
+        Self {
+            connect,
+            fhir,
+            grpc_web,
+        }
     }
 }
 
-impl<S, C: Clone> Layer<S> for DispatchLayer<C> {
-    type Service = Dispatch<S, C>;
+impl<S, C: Clone, F: Clone> Layer<S> for DispatchLayer<C, F> {
+    type Service = Dispatch<S, C, F>;
 
     fn layer(&self, grpc: S) -> Self::Service {
         Dispatch {
             grpc,
             connect: self.connect.clone(),
+            fhir: self.fhir.clone(),
             grpc_web: self.grpc_web,
         }
     }
@@ -199,13 +210,14 @@ impl<S, C: Clone> Layer<S> for DispatchLayer<C> {
 
 /// The service [`DispatchLayer`] makes.
 #[derive(Debug, Clone)]
-pub struct Dispatch<S, C> {
+pub struct Dispatch<S, C, F> {
     grpc: S,
     connect: C,
+    fhir: F,
     grpc_web: bool,
 }
 
-impl<S, C> Service<Request<Body>> for Dispatch<S, C>
+impl<S, C, F> Service<Request<Body>> for Dispatch<S, C, F>
 where
     S: Service<Request<Body>, Response = Response<Body>> + Clone + Send + 'static,
     S::Future: Send + 'static,
@@ -215,6 +227,11 @@ where
         + Send
         + 'static,
     C::Future: Send + 'static,
+    F: Service<Request<Body>, Response = Response<Body>, Error = Infallible>
+        + Clone
+        + Send
+        + 'static,
+    F::Future: Send + 'static,
 {
     type Response = Response<Body>;
     type Error = S::Error;
@@ -237,6 +254,15 @@ where
                 let connect = self.connect.clone();
                 Box::pin(async move {
                     match connect.oneshot(request).await {
+                        Ok(response) => Ok(response),
+                        Err(never) => match never {},
+                    }
+                })
+            }
+            Door::Fhir => {
+                let fhir = self.fhir.clone();
+                Box::pin(async move {
+                    match fhir.oneshot(request).await {
                         Ok(response) => Ok(response),
                         Err(never) => match never {},
                     }
@@ -415,5 +441,42 @@ mod tests {
             door(Method::PUT, "/anything", Some("text/plain")),
             Door::Grpc
         );
+    }
+
+    #[test]
+    fn every_path_under_fhir_r4_goes_to_the_fhir_door_whatever_its_content_type() {
+        for (method, target, content_type) in [
+            (Method::GET, "/fhir/r4/metadata", None),
+            (
+                Method::POST,
+                "/fhir/r4/$derive-oxygen-values",
+                Some("application/fhir+json"),
+            ),
+            (
+                Method::POST,
+                "/fhir/r4/$derive-oxygen-values",
+                Some("application/json"),
+            ),
+            (
+                Method::POST,
+                "/fhir/r4/$derive-oxygen-values",
+                Some("application/grpc"),
+            ),
+            (Method::PUT, "/fhir/r4/Patient/1", Some("text/plain")),
+        ] {
+            assert_eq!(door(method, target, content_type), Door::Fhir, "{target}");
+        }
+        assert_eq!(
+            door_over(
+                Version::HTTP_11,
+                false,
+                Method::GET,
+                "/fhir/r4/metadata",
+                None
+            ),
+            Door::Fhir
+        );
+        // Only the path prefix itself, not a look-alike.
+        assert_ne!(door(Method::GET, "/fhir/r4x/metadata", None), Door::Fhir);
     }
 }

@@ -52,7 +52,7 @@ const TIMER_MARGIN: Duration = Duration::from_millis(1);
 const HEALTH_PATH_PREFIX: &str = "/grpc.health.v1.Health/";
 
 /// Every method the server serves, fully qualified as `rpc.method` wants it.
-const KNOWN_METHODS: [&str; 18] = [
+const KNOWN_METHODS: [&str; 22] = [
     "oxbind.v1.DissociationService/SaturationFromTension",
     "oxbind.v1.DissociationService/TensionFromSaturation",
     "oxbind.v1.DissociationService/SampleCurve",
@@ -71,7 +71,19 @@ const KNOWN_METHODS: [&str; 18] = [
     "grpc.health.v1.Health/List",
     "grpc.reflection.v1.ServerReflection/ServerReflectionInfo",
     "grpc.reflection.v1alpha.ServerReflection/ServerReflectionInfo",
+    // The FHIR door (http/fhir): its operation and conformance reads.
+    "fhir/r4/$derive-oxygen-values",
+    "fhir/r4/metadata",
+    "fhir/r4/OperationDefinition/derive-oxygen-values",
+    "fhir/r4/CodeSystem/oxygen-derived-values",
 ];
+
+/// Path prefix of the FHIR door, whose calls are recorded as [`FHIR_SYSTEM`].
+const FHIR_PATH_PREFIX: &str = "/fhir/r4/";
+
+/// `rpc.system.name` of a call to the FHIR door (a name of our own: the
+/// semantic conventions name none for FHIR).
+const FHIR_SYSTEM: &str = "fhir";
 
 /// `rpc.method` for a method the server does not know (semantic conventions).
 const OTHER_METHOD: &str = "_OTHER";
@@ -140,7 +152,11 @@ where
         let method = method_name(path);
         let is_health = path.starts_with(HEALTH_PATH_PREFIX);
         let request_id = request_id_of(request.headers());
-        let system = rpc_system(request.headers());
+        let system = if path.starts_with(FHIR_PATH_PREFIX) {
+            FHIR_SYSTEM
+        } else {
+            rpc_system(request.headers())
+        };
         let timeout = parse_grpc_timeout(request.headers()).map_or(self.shared.call_timeout, |t| {
             t.min(self.shared.call_timeout)
         });

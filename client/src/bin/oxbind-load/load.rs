@@ -685,6 +685,7 @@ impl Task {
             model: self.model,
             hill: None,
             unit_system: 0,
+            uncertainty: None,
         }
     }
 }

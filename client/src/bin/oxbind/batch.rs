@@ -287,6 +287,7 @@ impl ItemBuilder {
                 model,
                 hill,
                 unit_system,
+                uncertainty: None,
             }),
             Direction::Tensions => Item::Tension(TensionFromSaturationRequest {
                 saturation_fraction: self.saturation.unwrap_or_default(),
@@ -294,6 +295,7 @@ impl ItemBuilder {
                 model,
                 hill,
                 unit_system,
+                uncertainty: None,
             }),
         })
     }

@@ -23,6 +23,7 @@ use crate::{
     fields::FieldNames,
     output::{self, print_json, Table},
     plot::{self, Series},
+    uncertainty::UncertaintyArgs,
     Context,
 };
 
@@ -49,6 +50,8 @@ pub(crate) struct SaturationArgs {
     conditions: ConditionArgs,
     #[command(flatten)]
     pub(crate) hill: HillArgs,
+    #[command(flatten)]
+    pub(crate) uncertainty: UncertaintyArgs,
 }
 
 /// How `saturation`, `tension` and `shift` name their fields.
@@ -62,6 +65,7 @@ pub(crate) fn curve_point_names() -> FieldNames {
 
 /// `oxbind saturation`.
 pub(crate) async fn saturation(ctx: &Context, a: &SaturationArgs) -> Result<(), Failure> {
+    let names = a.uncertainty.names(curve_point_names());
     let response = ctx
         .client
         .saturation_from_tension(SaturationFromTensionRequest {
@@ -70,6 +74,7 @@ pub(crate) async fn saturation(ctx: &Context, a: &SaturationArgs) -> Result<(), 
             model: ctx.model,
             hill: a.hill.to_hill(),
             unit_system: ctx.unit_system,
+            uncertainty: a.uncertainty.to_request(&names)?,
         })
         .await?;
     json_or(
@@ -85,7 +90,8 @@ pub(crate) async fn saturation(ctx: &Context, a: &SaturationArgs) -> Result<(), 
                 )
                 .quantity("P50 at these conditions", r.p50_at_conditions.as_ref())
                 .number("Hill slope at this point", Some(r.hill_slope), 3)
-                .provenance(r.provenance.as_ref(), &r.warnings, &curve_point_names());
+                .provenance(r.provenance.as_ref(), &r.warnings, &names)
+                .uncertainties(&r.uncertainties, &names);
             t
         },
     )
@@ -101,10 +107,13 @@ pub(crate) struct TensionArgs {
     conditions: ConditionArgs,
     #[command(flatten)]
     pub(crate) hill: HillArgs,
+    #[command(flatten)]
+    pub(crate) uncertainty: UncertaintyArgs,
 }
 
 /// `oxbind tension`.
 pub(crate) async fn tension(ctx: &Context, a: &TensionArgs) -> Result<(), Failure> {
+    let names = a.uncertainty.names(curve_point_names());
     let response = ctx
         .client
         .tension_from_saturation(TensionFromSaturationRequest {
@@ -113,6 +122,7 @@ pub(crate) async fn tension(ctx: &Context, a: &TensionArgs) -> Result<(), Failur
             model: ctx.model,
             hill: a.hill.to_hill(),
             unit_system: ctx.unit_system,
+            uncertainty: a.uncertainty.to_request(&names)?,
         })
         .await?;
     json_or(
@@ -128,7 +138,8 @@ pub(crate) async fn tension(ctx: &Context, a: &TensionArgs) -> Result<(), Failur
                     r.po2_change_per_percent.as_ref(),
                 )
                 .quantity("P50 at these conditions", r.p50_at_conditions.as_ref())
-                .provenance(r.provenance.as_ref(), &r.warnings, &curve_point_names());
+                .provenance(r.provenance.as_ref(), &r.warnings, &names)
+                .uncertainties(&r.uncertainties, &names);
             t
         },
     )
@@ -161,18 +172,25 @@ pub(crate) struct CurveArgs {
     /// Leave out the standard curve when conditions are given.
     #[arg(long)]
     pub(crate) no_standard: bool,
-    /// Write an SVG plot of the curves to this file.
+    /// Write an SVG plot of the curves to this file (with the uncertainty
+    /// flags, each curve's coverage band shaded).
     #[arg(long, value_name = "FILE")]
     pub(crate) svg: Option<PathBuf>,
     #[command(flatten)]
     pub(crate) conditions: ConditionArgs,
     #[command(flatten)]
     pub(crate) hill: HillArgs,
+    /// With any uncertainty flag, each point's saturation gets its coverage
+    /// interval (a band): `--u 'po2=3mm[Hg]'` is the uncertainty of every
+    /// point's PO2.
+    #[command(flatten)]
+    pub(crate) uncertainty: UncertaintyArgs,
 }
 
 /// How `curve` names its fields. The curve of the given conditions is the
 /// last condition set (the first is the standard one, unless
-/// `--no-standard`).
+/// `--no-standard`). A band's calls (SaturationFromTension at each point)
+/// name the point's PO2 and the curve's conditions.
 pub(crate) fn curve_names(given_index: usize) -> FieldNames {
     FieldNames::new()
         .with_conditions(&format!("condition_sets[{given_index}]"), "")
@@ -182,6 +200,79 @@ pub(crate) fn curve_names(given_index: usize) -> FieldNames {
         .with("po2_max", "--po2-max")
         .with("point_count", "--points")
         .with("spacing", "--spacing")
+        .with("po2", "--po2")
+        .with_conditions("conditions", "")
+}
+
+/// One point of a band: PO2, and the saturation's interval.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct BandPoint {
+    pub(crate) po2: f64,
+    pub(crate) saturation: f64,
+    pub(crate) low: f64,
+    pub(crate) high: f64,
+    pub(crate) standard_uncertainty: f64,
+}
+
+/// The coverage band of each curve: the saturation's interval at each
+/// point, from SaturationFromTension with the uncertainty flags (first
+/// order: one batch call per curve; Monte Carlo, which batches refuse: one
+/// call per point).
+async fn bands(
+    ctx: &Context,
+    args: &CurveArgs,
+    sets: &[BloodConditions],
+    response: &SampleCurveResponse,
+) -> Result<Vec<Vec<BandPoint>>, Failure> {
+    let names = args.uncertainty.names(curve_point_names());
+    let uncertainty = args.uncertainty.to_request(&names)?;
+    let mut out = Vec::with_capacity(response.curves.len());
+    for (curve, conditions) in response.curves.iter().zip(sets) {
+        let requests: Vec<SaturationFromTensionRequest> = curve
+            .points
+            .iter()
+            .map(|p| SaturationFromTensionRequest {
+                po2: Some(Quantity::new(p.po2, &curve.po2_unit)),
+                conditions: Some(conditions.clone()),
+                model: ctx.model,
+                hill: args.hill.to_hill(),
+                unit_system: ctx.unit_system,
+                uncertainty: uncertainty.clone(),
+            })
+            .collect();
+        let answers = if args.uncertainty.monte_carlo() {
+            let mut answers = Vec::with_capacity(requests.len());
+            for request in requests {
+                answers.push(ctx.client.saturation_from_tension(request).await?);
+            }
+            answers
+        } else {
+            ctx.client
+                .batch_saturation_from_tension(requests)
+                .await?
+                .into_iter()
+                .collect::<Result<Vec<_>, _>>()?
+        };
+        out.push(
+            curve
+                .points
+                .iter()
+                .zip(answers)
+                .filter_map(|(p, a)| {
+                    let u = a.uncertainties.first()?;
+                    let interval = u.interval.as_ref()?;
+                    Some(BandPoint {
+                        po2: p.po2,
+                        saturation: a.saturation_fraction,
+                        low: interval.low.as_ref()?.value,
+                        high: interval.high.as_ref()?.value,
+                        standard_uncertainty: u.standard_uncertainty.as_ref()?.value,
+                    })
+                })
+                .collect(),
+        );
+    }
+    Ok(out)
 }
 
 /// Ask for curves under each of `condition_sets`.
@@ -230,13 +321,26 @@ pub(crate) fn curve_sets(args: &CurveArgs) -> (Vec<BloodConditions>, Vec<String>
 pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure> {
     let (sets, labels) = curve_sets(args);
     let given_index = sets.len() - 1;
-    let response = sample_curves(ctx, sets, args).await?;
+    let response = sample_curves(ctx, sets.clone(), args).await?;
+    let bands = if args.uncertainty.is_given() {
+        Some(bands(ctx, args, &sets, &response).await?)
+    } else {
+        None
+    };
     if let Some(path) = &args.svg {
         let series: Vec<Series> = response
             .curves
             .iter()
             .zip(&labels)
-            .map(|(c, l)| Series::from_curve(l, c))
+            .enumerate()
+            .map(|(i, (c, l))| {
+                let band = bands.as_ref().map(|b| {
+                    b[i].iter()
+                        .map(|p| (p.po2, p.low, p.high))
+                        .collect::<Vec<_>>()
+                });
+                Series::from_curve(l, c).with_band(band)
+            })
             .collect();
         plot::write_svg(path, "Oxygen dissociation curves", &series).map_err(Failure::Other)?;
         output::note(format!(
@@ -246,7 +350,10 @@ pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure
         ));
     }
     if ctx.json {
-        return print_json(&response, "oxbind.v1.SampleCurveResponse");
+        let Some(bands) = &bands else {
+            return print_json(&response, "oxbind.v1.SampleCurveResponse");
+        };
+        return print_curves_with_bands(&response, &labels, bands);
     }
     let names = curve_names(given_index);
     for (curve, label) in response.curves.iter().zip(&labels) {
@@ -269,6 +376,20 @@ pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure
     let mut header = format!("{po2_heading:>12}");
     for h in &headings {
         header.push_str(&format!("  {h:>12}"));
+        if bands.is_some() {
+            header.push_str(&format!("  {:>8}  {:>8}", "low", "high"));
+        }
+    }
+    if bands.is_some() {
+        let coverage = output::trim(args.uncertainty.coverage.unwrap_or(0.95) * 100.0);
+        let method = if args.uncertainty.monte_carlo() {
+            "Monte Carlo"
+        } else {
+            "first order"
+        };
+        output::line(format!(
+            "low, high: the {coverage} % coverage interval of each saturation ({method}); the uncertainty rows of one point come with `oxbind saturation`"
+        ))?;
     }
     output::line(header)?;
     let n = response
@@ -284,16 +405,56 @@ pub(crate) async fn curve(ctx: &Context, args: &CurveArgs) -> Result<(), Failure
             .find_map(|c| c.points.get(row))
             .map(|p| p.po2);
         let mut text = format!("{:>12.2}", po2.unwrap_or(f64::NAN));
-        for (c, h) in response.curves.iter().zip(&headings) {
+        for (i, (c, h)) in response.curves.iter().zip(&headings).enumerate() {
             let width = h.chars().count().max(12);
             match c.points.get(row) {
                 Some(p) => text.push_str(&format!("  {:>width$.4}", p.saturation_fraction)),
                 None => text.push_str(&format!("  {:>width$}", "")),
             }
+            if let Some(bands) = &bands {
+                match bands[i]
+                    .iter()
+                    .find(|b| Some(b.po2) == c.points.get(row).map(|p| p.po2))
+                {
+                    Some(b) => text.push_str(&format!("  {:>8.4}  {:>8.4}", b.low, b.high)),
+                    None => text.push_str(&format!("  {:>8}  {:>8}", "", "")),
+                }
+            }
         }
         output::line(text)?;
     }
     Ok(())
+}
+
+/// `--json` for curves with bands: the SampleCurve response, and each
+/// curve's band as `{"curve", "points": [{"po2", "saturationFraction",
+/// "standardUncertainty", "low", "high"}]}`.
+fn print_curves_with_bands(
+    response: &SampleCurveResponse,
+    labels: &[String],
+    bands: &[Vec<BandPoint>],
+) -> Result<(), Failure> {
+    let curves = oxbind_client::json::to_json(response, "oxbind.v1.SampleCurveResponse")
+        .map_err(|e| Failure::Other(e.to_string()))?;
+    let bands: Vec<serde_json::Value> = labels
+        .iter()
+        .zip(bands)
+        .map(|(label, points)| {
+            serde_json::json!({
+                "curve": label,
+                "points": points.iter().map(|p| serde_json::json!({
+                    "po2": p.po2,
+                    "saturationFraction": p.saturation,
+                    "standardUncertainty": p.standard_uncertainty,
+                    "low": p.low,
+                    "high": p.high,
+                })).collect::<Vec<_>>(),
+            })
+        })
+        .collect();
+    let value = serde_json::json!({"sampleCurve": curves, "bands": bands});
+    let text = serde_json::to_string_pretty(&value).map_err(|e| Failure::Other(e.to_string()))?;
+    output::line(text)
 }
 
 /// Conditions in plain words, e.g. `pH 7.35, temperature 33.2 °C, base
@@ -338,16 +499,20 @@ fn direction(raw: i32) -> &'static str {
 pub(crate) struct ShiftArgs {
     #[command(flatten)]
     conditions: ConditionArgs,
+    #[command(flatten)]
+    pub(crate) uncertainty: UncertaintyArgs,
 }
 
 /// `oxbind shift`.
 pub(crate) async fn shift(ctx: &Context, a: &ShiftArgs) -> Result<(), Failure> {
+    let names = a.uncertainty.names(curve_point_names());
     let response = ctx
         .client
         .shift_factors(ShiftFactorsRequest {
             conditions: a.conditions.to_conditions(),
             model: ctx.model,
             unit_system: ctx.unit_system,
+            uncertainty: a.uncertainty.to_request(&names)?,
         })
         .await?;
     json_or(ctx, &response, "oxbind.v1.ShiftFactorsResponse", |r| {
@@ -371,7 +536,8 @@ pub(crate) async fn shift(ctx: &Context, a: &ShiftArgs) -> Result<(), Failure> {
             Some(r.po2_correction_factor),
             4,
         )
-        .provenance(r.provenance.as_ref(), &r.warnings, &curve_point_names());
+        .provenance(r.provenance.as_ref(), &r.warnings, &names)
+        .uncertainties(&r.uncertainties, &names);
         t
     })
 }
@@ -572,6 +738,8 @@ pub(crate) struct ContentArgs {
     venous: VenousArgs,
     #[command(flatten)]
     pub(crate) hill: HillArgs,
+    #[command(flatten)]
+    pub(crate) uncertainty: UncertaintyArgs,
 }
 
 /// How `content` names its fields.
@@ -587,6 +755,7 @@ pub(crate) fn content_names() -> FieldNames {
 /// `oxbind content`.
 pub(crate) async fn content(ctx: &Context, a: &ContentArgs) -> Result<(), Failure> {
     let hill = a.hill.to_hill();
+    let names = a.uncertainty.names(content_names());
     let response = ctx
         .client
         .oxygen_content(OxygenContentRequest {
@@ -596,6 +765,7 @@ pub(crate) async fn content(ctx: &Context, a: &ContentArgs) -> Result<(), Failur
             cardiac_output: a.cardiac_output.clone(),
             hufner_factor_ml_per_g: a.hufner,
             unit_system: ctx.unit_system,
+            uncertainty: a.uncertainty.to_request(&names)?,
         })
         .await?;
     json_or(ctx, &response, "oxbind.v1.OxygenContentResponse", |r| {
@@ -610,7 +780,8 @@ pub(crate) async fn content(ctx: &Context, a: &ContentArgs) -> Result<(), Failur
             .quantity("oxygen capacity", r.oxygen_capacity.as_ref())
             .quantity("oxygen delivery", r.delivery.as_ref())
             .quantity("oxygen consumption", r.consumption.as_ref())
-            .provenance(r.provenance.as_ref(), &r.warnings, &content_names());
+            .provenance(r.provenance.as_ref(), &r.warnings, &names)
+            .uncertainties(&r.uncertainties, &names);
         t
     })
 }
@@ -665,6 +836,8 @@ pub(crate) struct GasExchangeArgs {
     venous: VenousArgs,
     #[command(flatten)]
     pub(crate) hill: HillArgs,
+    #[command(flatten)]
+    pub(crate) uncertainty: UncertaintyArgs,
 }
 
 /// How `gas-exchange` names its fields.
@@ -687,6 +860,7 @@ pub(crate) fn gas_exchange_names() -> FieldNames {
 /// `oxbind gas-exchange`.
 pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(), Failure> {
     let hill = a.hill.to_hill();
+    let names = a.uncertainty.names(gas_exchange_names());
     let equation = match a.alveolar_equation {
         None => AlveolarEquation::Unspecified,
         Some(AlveolarEquationArg::Full) => AlveolarEquation::Full,
@@ -713,6 +887,7 @@ pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(
             body_temperature: a.body_temp.clone(),
             unit_system: ctx.unit_system,
             alveolar_equation: equation as i32,
+            uncertainty: a.uncertainty.to_request(&names)?,
         })
         .await?;
     // The ratios of PaO2 to FiO2 are pressures (per unit fraction), in the
@@ -747,7 +922,8 @@ pub(crate) async fn gas_exchange(ctx: &Context, a: &GasExchangeArgs) -> Result<(
         t.number("oxygenation index", r.oxygenation_index, 1)
             .number("oxygen saturation index", r.oxygen_saturation_index, 1)
             .number("shunt fraction", r.shunt_fraction, 3)
-            .provenance(r.provenance.as_ref(), &r.warnings, &gas_exchange_names());
+            .provenance(r.provenance.as_ref(), &r.warnings, &names)
+            .uncertainties(&r.uncertainties, &names);
         t
     })
 }
@@ -775,6 +951,25 @@ pub(crate) async fn models(ctx: &Context) -> Result<(), Failure> {
                 honoured.join(", ")
             }
         ))?;
+    }
+    if !response.uncertainty_profiles.is_empty() {
+        output::line(
+            "\nuncertainty profiles (a set: --uncertainty SET; one: --u NAME=ID; --json gives each figure and source):",
+        )?;
+        for p in &response.uncertainty_profiles {
+            let verification = oxbind_client::v1::ProfileVerification::try_from(p.verification)
+                .map(|v| {
+                    v.as_str_name()
+                        .trim_start_matches("PROFILE_VERIFICATION_")
+                        .to_lowercase()
+                        .replace('_', " ")
+                })
+                .unwrap_or_default();
+            output::line(format!(
+                "{:<44} {verification}: {}",
+                p.profile_id, p.description
+            ))?;
+        }
     }
     if !response.cautions.is_empty() {
         output::line(format!("\n{}", response.cautions))?;

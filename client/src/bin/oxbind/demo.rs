@@ -195,6 +195,7 @@ pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
                 conditions: Some(case.conditions.clone()),
                 model,
                 unit_system: ctx.unit_system,
+                uncertainty: None,
             })
             .await?;
         let saturation = ctx
@@ -205,6 +206,7 @@ pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
                 model,
                 hill: None,
                 unit_system: ctx.unit_system,
+                uncertainty: None,
             })
             .await?;
         // The PO2 as the server used it, in the answer's unit system.

@@ -23,11 +23,17 @@ pub(crate) const EXIT_UNAVAILABLE: i32 = 4;
 /// unreadable (its `error` column says why).
 pub(crate) const EXIT_ROWS_REFUSED: i32 = 5;
 
+/// Exit status: `verify` ran and wrote its reports, but the instance is not
+/// verified (a case failed, a method or model had no case, or a source row
+/// could not be read).
+pub(crate) const EXIT_NOT_VERIFIED: i32 = 6;
+
 /// The exit statuses, for `--help`.
 pub(crate) const EXIT_HELP: &str = "Exit status: 0 success; 1 other failure (including no answer \
 within --timeout); 2 usage error (a bad flag or value, a bare number above 1 for a fraction, an \
 unknown CSV column); 3 input refused by the server (each field named by its flag); 4 server \
-unavailable; 5 batch finished with refused rows (every row written).";
+unavailable; 5 batch finished with refused rows (every row written); 6 verify finished and \
+wrote its reports, but not every case passed.";
 
 /// Why a command did not succeed.
 #[derive(Debug)]
@@ -41,6 +47,11 @@ pub(crate) enum Failure {
     RowsRefused,
     /// Standard output was closed (`| head`): stop quietly.
     ClosedOutput,
+    /// `verify` wrote its reports, and the instance is not verified (its
+    /// summary has been written).
+    NotVerified,
+    /// The server could not be reached (a message for standard error).
+    Unavailable(String),
     /// Something else (writing a file, a server that is not SERVING).
     Other(String),
 }
@@ -74,6 +85,11 @@ impl Failure {
                 EXIT_FAILURE
             }
             Failure::RowsRefused => EXIT_ROWS_REFUSED,
+            Failure::NotVerified => EXIT_NOT_VERIFIED,
+            Failure::Unavailable(message) => {
+                note(format!("oxbind: {message}"));
+                EXIT_UNAVAILABLE
+            }
             Failure::ClosedOutput => EXIT_OK,
             Failure::Client(error) => {
                 if how.json {

@@ -87,6 +87,15 @@ impl FieldNames {
         self.lookup(path.strip_suffix(".value").unwrap_or(path))
     }
 
+    /// The request field path the flag `flag` sets (the first path named
+    /// exactly so).
+    pub(crate) fn path_of(&self, flag: &str) -> Option<String> {
+        self.names
+            .iter()
+            .find(|(_, n)| n == flag)
+            .map(|(p, _)| p.clone())
+    }
+
     fn lookup(&self, path: &str) -> Option<String> {
         self.names
             .iter()
@@ -155,9 +164,37 @@ impl FieldNames {
     }
 }
 
+/// The uncertainty enum names a message may mention, and the flags that
+/// choose them.
+const UNCERTAINTY_FLAGS: [(&str, &str); 4] = [
+    (
+        "UNCERTAINTY_METHOD_MONTE_CARLO",
+        "--uncertainty-method monte-carlo",
+    ),
+    (
+        "UNCERTAINTY_METHOD_FIRST_ORDER",
+        "--uncertainty-method first-order",
+    ),
+    (
+        "COVERAGE_INTERVAL_KIND_PROBABILISTICALLY_SYMMETRIC",
+        "--interval symmetric",
+    ),
+    ("COVERAGE_INTERVAL_KIND_SHORTEST", "--interval shortest"),
+];
+
 /// `MODEL_SIGGAARD_ANDERSEN_1984` -> `--model siggaard-andersen-1984`, for
-/// every model enum name in `text`.
+/// every model enum name in `text`; the uncertainty method and interval
+/// names likewise (`UNCERTAINTY_METHOD_MONTE_CARLO` -> `--uncertainty-method
+/// monte-carlo`).
 pub(crate) fn model_flags(text: &str) -> String {
+    let mut text = text.to_owned();
+    for (name, flag) in UNCERTAINTY_FLAGS {
+        text = text.replace(name, flag);
+    }
+    model_enum_flags(&text)
+}
+
+fn model_enum_flags(text: &str) -> String {
     let mut out = String::with_capacity(text.len());
     let mut rest = text;
     while let Some(start) = rest.find("MODEL_") {

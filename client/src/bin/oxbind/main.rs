@@ -12,11 +12,14 @@ mod columns;
 mod commands;
 mod demo;
 mod failure;
+mod fhir;
 mod fields;
 #[path = "../common/model_arg.rs"]
 mod model_arg;
 mod output;
 mod plot;
+mod uncertainty;
+mod verify;
 
 use std::{path::PathBuf, time::Duration};
 
@@ -64,9 +67,14 @@ pub(crate) struct Cli {
 
     /// Print protobuf JSON (lowerCamelCase names, enums as names) instead of
     /// a table; a refusal is then one JSON object on standard error, with
-    /// the contract's field paths.
-    #[arg(long, global = true, help_heading = GLOBAL)]
-    json: bool,
+    /// the contract's field paths. (`oxbind verify --json FILE` writes its
+    /// JSON report to FILE instead.)
+    // A value-less flag whose value, when given, is empty: `verify` defines
+    // its own `--json FILE` under the same id, which clap then does not
+    // propagate here, and both read as text.
+    #[arg(long, global = true, help_heading = GLOBAL, num_args = 0, default_missing_value = "",
+          value_name = "")]
+    json: Option<String>,
 
     /// PEM bundle of CA certificates to trust (turns on TLS).
     #[arg(long, global = true, help_heading = GLOBAL, env = "OXBIND_CA_CERT", value_name = "FILE")]
@@ -135,6 +143,14 @@ enum Command {
     Check(check::CheckArgs),
     /// An invented scenario at a fictional hospital (`--svg` draws its curves).
     Demo(demo::DemoArgs),
+    /// Derived Observations from a FHIR R4 Parameters or Bundle of
+    /// LOINC-coded Observations (the server's $derive-oxygen-values).
+    Fhir(fhir::FhirArgs),
+    /// Run every published check case through the server, through each
+    /// door it answers on, and write a report a laboratory can file
+    /// (`--report` HTML, `--json` JSON); exit 0 only if every case passed.
+    #[command(after_help = verify::AFTER_HELP)]
+    Verify(verify::VerifyArgs),
     /// Print a shell completion script.
     Completions {
         /// The shell.
@@ -200,14 +216,16 @@ fn usage(error: impl std::fmt::Display) -> Failure {
 /// How the command's flags name its request's fields.
 fn names_for(command: &Command) -> FieldNames {
     match command {
-        Command::Saturation(_) | Command::Tension(_) | Command::Shift(_) => {
-            commands::curve_point_names()
-        }
-        Command::Curve(a) => commands::curve_names(commands::curve_sets(a).0.len() - 1),
+        Command::Saturation(a) => a.uncertainty.names(commands::curve_point_names()),
+        Command::Tension(a) => a.uncertainty.names(commands::curve_point_names()),
+        Command::Shift(a) => a.uncertainty.names(commands::curve_point_names()),
+        Command::Curve(a) => a
+            .uncertainty
+            .names(commands::curve_names(commands::curve_sets(a).0.len() - 1)),
         Command::P50(a) => commands::p50_names(a.pairs_len()),
         Command::Temperature(_) => commands::temperature_names(),
-        Command::Content(_) => commands::content_names(),
-        Command::GasExchange(_) => commands::gas_exchange_names(),
+        Command::Content(a) => a.uncertainty.names(commands::content_names()),
+        Command::GasExchange(a) => a.uncertainty.names(commands::gas_exchange_names()),
         Command::Demo(_) => commands::curve_point_names(),
         Command::Check(a) => check::check_names(a.figures.figures.len()),
         _ => FieldNames::new(),
@@ -243,18 +261,21 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
         )))
     };
     match &cli.command {
-        Command::Batch(_) if cli.json => unused("--json", "batch (it writes CSV)"),
-        Command::Check(a) if cli.json && a.input.is_some() => {
+        Command::Batch(_) if cli.json.is_some() => unused("--json", "batch (it writes CSV)"),
+        Command::Check(a) if cli.json.is_some() && a.input.is_some() => {
             unused("--json", "check --input (it writes CSV)")
         }
-        Command::Demo(_) if cli.json => unused("--json", "demo"),
-        Command::Health | Command::Models | Command::Completions { .. } if cli.model.is_some() => {
-            unused("--model", "health, models or completions")
+        Command::Demo(_) if cli.json.is_some() => unused("--json", "demo"),
+        Command::Fhir(_) if cli.json.is_some() => unused("--json", "fhir (it prints FHIR JSON)"),
+        Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
+            if cli.model.is_some() =>
+        {
+            unused("--model", "health, models, verify or completions")
         }
-        Command::Health | Command::Models | Command::Completions { .. }
+        Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
             if cli.unit_system.is_some() =>
         {
-            unused("--unit-system", "health, models or completions")
+            unused("--unit-system", "health, models, verify or completions")
         }
         _ => Ok(()),
     }
@@ -266,6 +287,9 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         let mut script = Vec::new();
         clap_complete::generate(*shell, &mut Cli::command(), "oxbind", &mut script);
         return output::line(String::from_utf8_lossy(&script).trim_end());
+    }
+    if let Command::Fhir(args) = &cli.command {
+        return fhir::run(cli, args).await;
     }
     let model = cli
         .model
@@ -287,11 +311,21 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         _ => None,
     };
     let server_name = source_name(matches, "server", "--server", "OXBIND_SERVER");
+    if let Command::Verify(args) = &cli.command {
+        let connection = verify::Connection {
+            server: &cli.server,
+            server_name: &server_name,
+            ca_cert: cli.ca_cert.as_ref(),
+            identity: cli.client_cert.as_ref().zip(cli.client_key.as_ref()),
+            timeout: cli.timeout,
+        };
+        return verify::run(args, &connection).await;
+    }
     let ctx = Context {
         client: connect(cli, &server_name).await?,
         model,
         unit_system,
-        json: cli.json,
+        json: cli.json.is_some(),
     };
     match &cli.command {
         Command::Saturation(a) => commands::saturation(&ctx, a).await,
@@ -313,7 +347,7 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
             None => check::check(&ctx, a).await,
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
-        Command::Completions { .. } => Ok(()),
+        Command::Completions { .. } | Command::Fhir(_) | Command::Verify(_) => Ok(()),
     }
 }
 
@@ -340,7 +374,7 @@ async fn main() {
         Ok(()) => failure::EXIT_OK,
         Err(failure) => failure.report(&Reporting {
             names: &names_for(&cli.command),
-            json: cli.json,
+            json: cli.json.is_some() && !matches!(cli.command, Command::Verify(_)),
             timeout: &timeout,
         }),
     };

@@ -193,7 +193,7 @@ pub(crate) fn given(q: &Quantity) -> String {
 }
 
 /// A number without trailing zeros (at most 6 decimals).
-fn trim(value: f64) -> String {
+pub(crate) fn trim(value: f64) -> String {
     let text = format!("{value:.6}");
     let text = text.trim_end_matches('0').trim_end_matches('.');
     if text == "-0" {

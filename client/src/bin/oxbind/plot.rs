@@ -20,6 +20,8 @@ pub(crate) struct Series {
     pub(crate) points: Vec<(f64, f64)>,
     /// The curve's P50, in `po2_unit`.
     pub(crate) p50: Option<f64>,
+    /// A coverage band: (PO2, low, high saturation fraction) points.
+    pub(crate) band: Option<Vec<(f64, f64, f64)>>,
 }
 
 impl Series {
@@ -34,7 +36,13 @@ impl Series {
                 .map(|p| (p.po2, p.saturation_fraction))
                 .collect(),
             p50: curve.p50.as_ref().map(|q| q.value),
+            band: None,
         }
+    }
+
+    /// The same series with a coverage band shaded around it.
+    pub(crate) fn with_band(self, band: Option<Vec<(f64, f64, f64)>>) -> Self {
+        Self { band, ..self }
     }
 
     /// The legend text: the label and the P50 with its unit.
@@ -60,8 +68,9 @@ const COLOURS: [RGBColor; 6] = [
 ];
 
 /// Draw `series` into an SVG file at `path`: PO2 on x, functional
-/// saturation in % on y, a dot at each curve's P50, and a legend giving
-/// each curve's P50 with its unit.
+/// saturation in % on y, each curve's coverage band (if any) shaded in its
+/// colour, a dot at each curve's P50, and a legend giving each curve's P50
+/// with its unit.
 pub(crate) fn write_svg(path: &Path, title: &str, series: &[Series]) -> Result<(), String> {
     draw(path, title, series).map_err(|e| format!("drawing {}: {e}", path.display()))
 }
@@ -96,6 +105,21 @@ fn draw(
         .y_desc("functional oxygen saturation SO2 (%)")
         .light_line_style(WHITE.mix(0.0))
         .draw()?;
+    // Bands first, so that every curve is drawn over them.
+    for (i, s) in series.iter().enumerate() {
+        if let Some(band) = s.band.as_ref().filter(|b| b.len() > 1) {
+            let colour = COLOURS[i % COLOURS.len()];
+            let outline: Vec<(f64, f64)> = band
+                .iter()
+                .map(|&(x, low, _)| (x, low * 100.0))
+                .chain(band.iter().rev().map(|&(x, _, high)| (x, high * 100.0)))
+                .collect();
+            chart.draw_series(std::iter::once(Polygon::new(
+                outline,
+                colour.mix(0.2).filled(),
+            )))?;
+        }
+    }
     for (i, s) in series.iter().enumerate() {
         let colour = COLOURS[i % COLOURS.len()];
         chart

@@ -16,6 +16,7 @@ use crate::{
     api::{
         observe,
         status::{batch_refusal, InvalidRequest, REASON_BATCH_EMPTY, REASON_BATCH_TOO_LARGE},
+        uncertainty::Call,
     },
     instruments,
 };
@@ -33,7 +34,7 @@ pub fn compute_batch_saturation_from_tension(
     let (results, shared_provenance) = compute_batch(
         &request.requests,
         request.provenance_placement,
-        point::saturation_from_tension,
+        |item, placement| point::saturation_from_tension(item, placement, Call::BatchItem),
         |outcome, shared_provenance_index| SaturationFromTensionResult {
             result: Some(match outcome {
                 Ok(response) => saturation_from_tension_result::Result::Response(response),
@@ -61,7 +62,7 @@ pub fn compute_batch_tension_from_saturation(
     let (results, shared_provenance) = compute_batch(
         &request.requests,
         request.provenance_placement,
-        point::tension_from_saturation,
+        |item, placement| point::tension_from_saturation(item, placement, Call::BatchItem),
         |outcome, shared_provenance_index| TensionFromSaturationResult {
             result: Some(match outcome {
                 Ok(response) => tension_from_saturation_result::Result::Response(response),

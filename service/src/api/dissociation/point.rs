@@ -17,12 +17,14 @@ use crate::{
         model_choice::choose_model,
         observe::Observed,
         status::InvalidRequest,
+        uncertainty::{self, Call, ValueUnit},
         units::{self, QuantityKind},
         warnings::{self, warning, PLATEAU_SATURATION},
     },
     physiology::{
         error::{Input, PhysiologyError},
         model::DissociationModel,
+        uncertainty::{SaturationFromTension, TensionFromSaturation},
     },
 };
 
@@ -30,16 +32,17 @@ use crate::{
 pub fn compute_saturation_from_tension(
     request: &SaturationFromTensionRequest,
 ) -> Result<SaturationFromTensionResponse, InvalidRequest> {
-    saturation_from_tension(request, ItemProvenance::Full)
+    saturation_from_tension(request, ItemProvenance::Full, Call::Single)
         .map(|(response, _)| response)
         .inspect(Observed::observe)
 }
 
-/// SaturationFromTension for one request or batch item, with the provenance
-/// `placement` asks for, and the key of that provenance.
+/// SaturationFromTension for one request or batch item (`call`), with the
+/// provenance `placement` asks for, and the key of that provenance.
 pub(super) fn saturation_from_tension(
     request: &SaturationFromTensionRequest,
     placement: ItemProvenance,
+    call: Call,
 ) -> Result<(SaturationFromTensionResponse, ProvenanceKey), InvalidRequest> {
     let root = FieldPath::ROOT;
     let mut reader = placement.reader(request.unit_system);
@@ -53,6 +56,12 @@ pub(super) fn saturation_from_tension(
     let model = choose_model(&mut reader, request.model, request.hill.as_ref(), &root);
     let conditions_path = root.field("conditions");
     let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path, &model);
+    let requested = uncertainty::read(
+        &mut reader,
+        request.uncertainty.as_ref(),
+        &uncertainty::SATURATION_FROM_TENSION_INPUTS,
+        call,
+    );
     let system = reader.system();
     let inputs_used = reader.finish()?;
     let po2 = po2.unwrap_or_default();
@@ -77,6 +86,20 @@ pub(super) fn saturation_from_tension(
         ],
         &mut found,
     );
+    let mut uncertainties = Vec::new();
+    if let Some(requested) = &requested {
+        let f = SaturationFromTension::new(model, po2, conditions).map_err(refuse)?;
+        uncertainties.push(requested.evaluate(
+            "saturation_fraction",
+            &f,
+            ValueUnit::Fraction,
+            system,
+        )?);
+        found.extend(uncertainty::not_evaluated(&[
+            "p50_at_conditions",
+            "hill_slope",
+        ]));
+    }
     let key = ProvenanceKey {
         model: model.info(),
         within_validated_range: inside,
@@ -88,6 +111,7 @@ pub(super) fn saturation_from_tension(
             hill_slope,
             provenance: placement.item_provenance(&key, inputs_used),
             warnings: found,
+            uncertainties,
         },
         key,
     ))
@@ -97,16 +121,17 @@ pub(super) fn saturation_from_tension(
 pub fn compute_tension_from_saturation(
     request: &TensionFromSaturationRequest,
 ) -> Result<TensionFromSaturationResponse, InvalidRequest> {
-    tension_from_saturation(request, ItemProvenance::Full)
+    tension_from_saturation(request, ItemProvenance::Full, Call::Single)
         .map(|(response, _)| response)
         .inspect(Observed::observe)
 }
 
-/// TensionFromSaturation for one request or batch item, with the provenance
-/// `placement` asks for, and the key of that provenance.
+/// TensionFromSaturation for one request or batch item (`call`), with the
+/// provenance `placement` asks for, and the key of that provenance.
 pub(super) fn tension_from_saturation(
     request: &TensionFromSaturationRequest,
     placement: ItemProvenance,
+    call: Call,
 ) -> Result<(TensionFromSaturationResponse, ProvenanceKey), InvalidRequest> {
     let root = FieldPath::ROOT;
     let mut reader = placement.reader(request.unit_system);
@@ -120,6 +145,12 @@ pub(super) fn tension_from_saturation(
     let model = choose_model(&mut reader, request.model, request.hill.as_ref(), &root);
     let conditions_path = root.field("conditions");
     let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path, &model);
+    let requested = uncertainty::read(
+        &mut reader,
+        request.uncertainty.as_ref(),
+        &uncertainty::TENSION_FROM_SATURATION_INPUTS,
+        call,
+    );
     let system = reader.system();
     let inputs_used = reader.finish()?;
     let saturation = saturation.unwrap_or(0.5);
@@ -158,6 +189,21 @@ pub(super) fn tension_from_saturation(
         ));
     }
     let change = units::from_engine(change_per_percent_mmhg, QuantityKind::Pressure, system);
+    let mut uncertainties = Vec::new();
+    if let Some(requested) = &requested {
+        let po2_value =
+            TensionFromSaturation::new(model, saturation, conditions).map_err(refuse)?;
+        uncertainties.push(requested.evaluate("po2", &po2_value, ValueUnit::Pressure, system)?);
+        let change_value = TensionFromSaturation::change_per_percent(model, saturation, conditions)
+            .map_err(refuse)?;
+        uncertainties.push(requested.evaluate(
+            "po2_change_per_percent",
+            &change_value,
+            ValueUnit::PressurePerPercent,
+            system,
+        )?);
+        found.extend(uncertainty::not_evaluated(&["p50_at_conditions"]));
+    }
     let key = ProvenanceKey {
         model: model.info(),
         within_validated_range: inside,
@@ -172,6 +218,7 @@ pub(super) fn tension_from_saturation(
             p50_at_conditions: Some(units::from_engine(p50, QuantityKind::Pressure, system)),
             provenance: placement.item_provenance(&key, inputs_used),
             warnings: found,
+            uncertainties,
         },
         key,
     ))

@@ -11,6 +11,7 @@ use crate::{
         provenance,
         reader::RequestReader,
         status::InvalidRequest,
+        uncertainty::{self, Call, ValueUnit},
         units::{self, QuantityKind},
         warnings,
     },
@@ -18,6 +19,7 @@ use crate::{
         conditions::Condition,
         model::DissociationModel,
         shift::{self, ShiftDirection},
+        uncertainty::P50AtConditions,
     },
 };
 
@@ -59,14 +61,35 @@ fn compute(request: &ShiftFactorsRequest) -> Result<ShiftFactorsResponse, Invali
     let model = choose_model(&mut reader, request.model, None, &root);
     let conditions_path = root.field("conditions");
     let conditions = reader.conditions(request.conditions.as_ref(), &conditions_path, &model);
+    let requested = uncertainty::read(
+        &mut reader,
+        request.uncertainty.as_ref(),
+        &uncertainty::SHIFT_FACTORS_INPUTS,
+        Call::Single,
+    );
     let system = reader.system();
     let inputs_used = reader.finish()?;
 
-    let analysis =
-        shift::shift_factors(&model, &conditions).map_err(|e| engine_refusal(&e, "conditions"))?;
+    let refuse = |e| engine_refusal(&e, "conditions");
+    let analysis = shift::shift_factors(&model, &conditions).map_err(refuse)?;
     let mut found = Vec::new();
     warnings::unmodelled_conditions(&model, &conditions, &conditions_path, &mut found);
     let inside = warnings::validated_ranges(&model, &conditions, &conditions_path, &[], &mut found);
+    let mut uncertainties = Vec::new();
+    if let Some(requested) = &requested {
+        let f = P50AtConditions::new(model, conditions).map_err(refuse)?;
+        uncertainties.push(requested.evaluate(
+            "p50_at_conditions",
+            &f,
+            ValueUnit::Pressure,
+            system,
+        )?);
+        found.extend(uncertainty::not_evaluated(&[
+            "log10_p50_shift",
+            "contributions",
+            "po2_correction_factor",
+        ]));
+    }
     Ok(ShiftFactorsResponse {
         p50_standard: Some(units::from_engine(
             analysis.p50_standard_mmhg,
@@ -92,5 +115,6 @@ fn compute(request: &ShiftFactorsRequest) -> Result<ShiftFactorsResponse, Invali
         po2_correction_factor: analysis.po2_correction_factor,
         provenance: Some(provenance::for_model(model.info(), inputs_used, inside)),
         warnings: found,
+        uncertainties,
     })
 }

@@ -11,12 +11,16 @@ use tonic::{body::Body, codegen::Bytes, Status};
 use tower::Service;
 
 use super::{request, Codec};
-use crate::api::{catalog, dissociation, status::InvalidRequest, transport};
+use crate::api::{
+    catalog, dissociation, server_settings, server_settings::ReportedSettings,
+    status::InvalidRequest, transport,
+};
 
 use crate::api::consistency;
 
-/// What a procedure needs besides the request: the configured limits.
-#[derive(Debug, Clone, Copy)]
+/// What a procedure needs besides the request: the configured limits, and
+/// the settings GetServerSettings reports.
+#[derive(Debug, Clone)]
 pub struct Limits {
     /// Largest batch accepted (`--max-batch-items`).
     pub max_batch_items: usize,
@@ -26,6 +30,8 @@ pub struct Limits {
     /// Largest response message sent, in bytes as sent
     /// (`--max-encoded-message-bytes`).
     pub max_response_bytes: usize,
+    /// The settings GetServerSettings reports.
+    pub settings: std::sync::Arc<ReportedSettings>,
 }
 
 /// One call of a procedure: the request message as sent, its codec, and the
@@ -65,7 +71,7 @@ type Procedure = fn(&Call<'_>) -> Result<Bytes, Status>;
 /// Every v1 RPC by its Connect path (`/<package>.<Service>/<Method>`). All
 /// are free of side effects (`idempotency_level = NO_SIDE_EFFECTS`), so all
 /// take the GET form too.
-const PROCEDURES: [(&str, Procedure); 13] = [
+const PROCEDURES: [(&str, Procedure); 14] = [
     (
         "/oxbind.v1.DissociationService/SaturationFromTension",
         |call| call.unary(dissociation::compute_saturation_from_tension),
@@ -112,6 +118,14 @@ const PROCEDURES: [(&str, Procedure); 13] = [
     ("/oxbind.v1.ModelCatalogService/ListModels", |call| {
         call.unary(|r| Ok(catalog::compute_list_models(r, call.limits.max_batch_items)))
     }),
+    ("/oxbind.v1.ModelCatalogService/GetServerSettings", |call| {
+        call.unary(|r| {
+            Ok(server_settings::compute_get_server_settings(
+                r,
+                &call.limits.settings,
+            ))
+        })
+    }),
     ("/oxbind.v1.ConsistencyService/CheckBloodGas", |call| {
         call.unary(consistency::compute_check_blood_gas)
     }),
@@ -138,7 +152,7 @@ fn procedure(path: &str) -> Option<Procedure> {
 /// status, and a success carries `grpc-status: 0` in its headers, so the
 /// call is logged, measured and counted exactly as a gRPC call is;
 /// [`super::ConnectDoor`] turns both into the Connect shape.
-#[derive(Debug, Clone, Copy)]
+#[derive(Debug, Clone)]
 pub struct Procedures {
     limits: Limits,
 }
@@ -160,7 +174,7 @@ impl Service<Request<Body>> for Procedures {
     }
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
-        let limits = self.limits;
+        let limits = self.limits.clone();
         Box::pin(async move {
             Ok(match answer(request, &limits).await {
                 Ok(response) => response,

@@ -580,7 +580,7 @@ fn resolve_figures<F: MeasurementFunction + ?Sized>(
             None => {
                 let mut found = None;
                 for set in &request.profile_sets {
-                    if let Some(p) = profile_in_set(set, slot.quantity)? {
+                    if let Some(p) = profile_in_set(set, slot.quantity.measured_as())? {
                         found = Some((
                             p.statement,
                             UsedSource::Profile {
@@ -640,7 +640,7 @@ fn profile_for(
         input,
         id: id.to_owned(),
     })?;
-    if p.input != input {
+    if p.input != input.measured_as() {
         return Err(UncertaintyError::ProfileForAnotherInput {
             input,
             id: id.to_owned(),

@@ -45,7 +45,7 @@ pub use evaluate::{
     NotConsideredReason, UncertaintyError, UncertaintyEvaluation, UncertaintyRequest,
     UncertaintyWarning, UsedFigure, UsedSource,
 };
-pub use first_order::{BudgetLine, FirstOrderResult};
+pub use first_order::{linearity, BudgetLine, FirstOrderResult, Linearity};
 pub use function::{
     AbsentReason, DerivativeMethod, DerivedQuantity, MeasurementFunction, Partial, Slot,
 };

@@ -199,6 +199,18 @@ impl InputQuantity {
         }
     }
 
+    /// The quantity a built-in profile for this input is written for: a
+    /// profile states the accuracy of a measurement (a blood PO2, a blood
+    /// PCO2), whichever sample it was measured on, so an arterial or venous
+    /// PO2 takes the PO2 profiles and an arterial PCO2 the PCO2 profiles.
+    pub const fn measured_as(self) -> InputQuantity {
+        match self {
+            InputQuantity::Pao2 | InputQuantity::VenousPo2 => InputQuantity::Po2,
+            InputQuantity::Paco2 => InputQuantity::Pco2,
+            other => other,
+        }
+    }
+
     /// The quantity with this [`name`](Self::name), if any.
     pub fn from_name(name: &str) -> Option<InputQuantity> {
         InputQuantity::ALL.into_iter().find(|q| q.name() == name)
@@ -354,6 +366,18 @@ mod tests {
         names.sort_unstable();
         names.dedup();
         assert_eq!(names.len(), InputQuantity::ALL.len());
+    }
+
+    #[test]
+    fn arterial_and_venous_tensions_are_measured_as_blood_tensions() {
+        assert_eq!(InputQuantity::Pao2.measured_as(), InputQuantity::Po2);
+        assert_eq!(InputQuantity::VenousPo2.measured_as(), InputQuantity::Po2);
+        assert_eq!(InputQuantity::Paco2.measured_as(), InputQuantity::Pco2);
+        assert_eq!(InputQuantity::Spo2.measured_as(), InputQuantity::Spo2);
+        assert_eq!(
+            InputQuantity::Saturation.measured_as(),
+            InputQuantity::Saturation
+        );
     }
 
     #[test]

@@ -1,0 +1,111 @@
+//! The FHIR door on a real server's main listener: HTTP/1.1 and HTTP/2,
+//! the per-call layer (request id echoed), the body size limit, and the
+//! same answers as the door itself. Every answer is kept for the
+//! validators (tests/fhir/run.sh).
+
+use http::Method;
+use oxbind_service::Config;
+use oxbind_tests::{
+    fhir::{self, wire},
+    TestServer,
+};
+use serde_json::Value;
+
+fn address(server: &TestServer) -> std::net::SocketAddr {
+    server.uri().trim_start_matches("http://").parse().unwrap()
+}
+
+#[tokio::test]
+async fn the_operation_answers_over_http1_and_http2() {
+    let server = TestServer::start().await;
+    let panel = fhir::LARCHMERE_PANEL.as_bytes();
+    let one = wire::http1(
+        "http1-panel",
+        address(&server),
+        "POST",
+        fhir::OPERATION,
+        panel,
+    )
+    .await;
+    assert_eq!(one.status, 200, "{:#}", one.body);
+    assert_eq!(one.content_type, "application/fhir+json; charset=utf-8");
+    assert_eq!(one.parameters("observation").len(), 23);
+    let mut channel = server.channel().await;
+    let (two, request_id) = wire::http2(
+        "http2-panel",
+        &mut channel,
+        &server.uri(),
+        Method::POST,
+        fhir::OPERATION,
+        panel,
+    )
+    .await;
+    assert_eq!(two.status, 200, "{:#}", two.body);
+    // The per-call layer echoed the caller's request id.
+    assert_eq!(request_id.as_deref(), Some("lvi-fhir-test-1"));
+    // The same numbers both ways (ids and times differ).
+    let values = |a: &fhir::FhirAnswer| -> Vec<(Value, Value)> {
+        a.parameters("observation")
+            .iter()
+            .map(|o| (o["code"].clone(), o["valueQuantity"].clone()))
+            .collect()
+    };
+    assert_eq!(values(&one), values(&two));
+    let (metadata, _) = wire::http2(
+        "http2-metadata",
+        &mut channel,
+        &server.uri(),
+        Method::GET,
+        "/fhir/r4/metadata",
+        b"",
+    )
+    .await;
+    assert_eq!(metadata.body["resourceType"], "CapabilityStatement");
+    // A refusal keeps its status and OperationOutcome through the layers.
+    let refused = wire::http1(
+        "http1-refused",
+        address(&server),
+        "POST",
+        fhir::OPERATION,
+        br#"{"resourceType": "Parameters", "parameter": [{"name": "observation"}]}"#,
+    )
+    .await;
+    assert_eq!(refused.status, 400);
+    assert_eq!(
+        refused.issues()[0]["expression"][0],
+        "Parameters.parameter[0].resource"
+    );
+    // gRPC is still served beside it.
+    let client = oxbind_client::OxbindClient::from_channel(
+        server.channel().await,
+        oxbind_client::RetryPolicy::default(),
+    );
+    assert!(client
+        .saturation(
+            oxbind_client::v1::Quantity::mm_hg(60.0),
+            oxbind_client::v1::BloodConditions::standard()
+        )
+        .await
+        .is_ok());
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn a_body_over_the_message_limit_is_refused_with_413() {
+    let config = Config {
+        max_decoded_message_bytes: 4096,
+        ..Config::default()
+    };
+    let server = TestServer::start_with(config).await;
+    let answer = wire::http1(
+        "http1-too-large",
+        address(&server),
+        "POST",
+        fhir::OPERATION,
+        fhir::LARCHMERE_PANEL.as_bytes(),
+    )
+    .await;
+    assert_eq!(answer.status, 413, "{:#}", answer.body);
+    assert_eq!(answer.issues()[0]["code"], "too-costly");
+    server.stop().await;
+}
