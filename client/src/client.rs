@@ -29,7 +29,10 @@ use oxbind_proto::v1::{
     BatchCheckBloodGasRequest, CheckBloodGasRequest, CheckBloodGasResponse,
 };
 
-use crate::{ClientError, RetryPolicy};
+use crate::{
+    balance::{self, Balancing, ResolveFuture},
+    ClientError, RetryPolicy,
+};
 
 /// Default time allowed to open the connection.
 pub const DEFAULT_CONNECT_TIMEOUT: Duration = Duration::from_secs(5);
@@ -63,7 +66,7 @@ pub type ItemResult<T> = Result<T, ClientError>;
 /// ```
 #[derive(Debug, Clone)]
 pub struct ClientBuilder {
-    endpoint: String,
+    pub(crate) endpoint: String,
     connect_timeout: Duration,
     call_timeout: Option<Duration>,
     retry: RetryPolicy,
@@ -72,6 +75,7 @@ pub struct ClientBuilder {
     identity_pem: Option<(Vec<u8>, Vec<u8>)>,
     domain_name: Option<String>,
     native_roots: bool,
+    balancing: Option<Balancing>,
 }
 
 impl ClientBuilder {
@@ -86,6 +90,7 @@ impl ClientBuilder {
             identity_pem: None,
             domain_name: None,
             native_roots: false,
+            balancing: None,
         }
     }
 
@@ -172,7 +177,78 @@ impl ClientBuilder {
         self
     }
 
+    /// Balance calls over every address the server's host name resolves
+    /// to (for example a Kubernetes headless Service, one address per ready
+    /// pod), resolving it again every 30 s ([`balance::DEFAULT_DNS_REFRESH`];
+    /// see [`ClientBuilder::dns_refresh`]). Each address gets its own
+    /// connection; each call goes to the less busy of two at random (tonic's
+    /// balancing channel). Without it, the client keeps one connection to
+    /// whichever address it reached.
+    ///
+    /// ```no_run
+    /// # async fn example() -> Result<(), oxbind_client::ClientError> {
+    /// let client = oxbind_client::OxbindClient::builder(
+    ///     "http://oxbind-headless.clinical.svc.cluster.local:50051",
+    /// )
+    /// .balance_over_dns()
+    /// .connect()
+    /// .await?;
+    /// # let _ = client; Ok(()) }
+    /// ```
+    pub fn balance_over_dns(mut self) -> Self {
+        let refresh = self
+            .balancing
+            .as_ref()
+            .map_or(balance::DEFAULT_DNS_REFRESH, |b| b.refresh);
+        self.balancing = Some(Balancing {
+            resolver: balance::dns_resolver(),
+            refresh,
+        });
+        self
+    }
+
+    /// Balance as [`ClientBuilder::balance_over_dns`] does, over the
+    /// addresses `resolve(host, port)` returns instead of DNS's (another
+    /// discovery service, or a fixed list).
+    pub fn balance_with_resolver<F, Fut>(mut self, resolve: F) -> Self
+    where
+        F: Fn(&str, u16) -> Fut + Send + Sync + 'static,
+        Fut: std::future::Future<Output = std::io::Result<Vec<std::net::SocketAddr>>>
+            + Send
+            + 'static,
+    {
+        let refresh = self
+            .balancing
+            .as_ref()
+            .map_or(balance::DEFAULT_DNS_REFRESH, |b| b.refresh);
+        let resolver = std::sync::Arc::new(move |host: &str, port: u16| -> ResolveFuture {
+            Box::pin(resolve(host, port))
+        });
+        self.balancing = Some(Balancing { resolver, refresh });
+        self
+    }
+
+    /// How often a balancing client resolves the name again (default
+    /// 30 s); no effect without balancing.
+    pub fn dns_refresh(mut self, every: Duration) -> Self {
+        if let Some(balancing) = &mut self.balancing {
+            balancing.refresh = every;
+        }
+        self
+    }
+
     fn endpoint(&self) -> Result<Endpoint, ClientError> {
+        self.endpoint_at(&self.endpoint, None)
+    }
+
+    /// The endpoint at `uri` with every setting of this builder; `tls_name`
+    /// is the name to check the server's certificate against when `uri`
+    /// names an address (unless [`ClientBuilder::tls_domain_name`] set one).
+    pub(crate) fn endpoint_at(
+        &self,
+        uri: &str,
+        tls_name: Option<&str>,
+    ) -> Result<Endpoint, ClientError> {
         let invalid = |reason: String| ClientError::InvalidEndpoint {
             endpoint: self.endpoint.clone(),
             reason,
@@ -185,7 +261,7 @@ impl ClientBuilder {
                     .to_owned(),
             ));
         }
-        let mut endpoint = Endpoint::from_shared(self.endpoint.clone())
+        let mut endpoint = Endpoint::from_shared(uri.to_owned())
             .map_err(|e| invalid(e.to_string()))?
             .tcp_nodelay(true)
             .connect_timeout(self.connect_timeout)
@@ -203,8 +279,8 @@ impl ClientBuilder {
             if let Some((cert, key)) = &self.identity_pem {
                 tls = tls.identity(Identity::from_pem(cert, key));
             }
-            if let Some(name) = &self.domain_name {
-                tls = tls.domain_name(name.clone());
+            if let Some(name) = self.domain_name.as_deref().or(tls_name) {
+                tls = tls.domain_name(name.to_owned());
             }
             if self.native_roots || self.ca_pem.is_none() {
                 tls = tls.with_native_roots();
@@ -218,12 +294,18 @@ impl ClientBuilder {
 
     /// Open the connection now; fails with [`ClientError::Connect`] when the
     /// server cannot be reached.
+    ///
+    /// A balancing client resolves the name now (an error if it resolves to
+    /// nothing) and connects to each address in the background.
     pub async fn connect(self) -> Result<OxbindClient, ClientError> {
-        let channel = self
-            .endpoint()?
-            .connect()
-            .await
-            .map_err(ClientError::Connect)?;
+        let channel = match &self.balancing {
+            Some(balancing) => balance::balanced_channel(&self, balancing).await?,
+            None => self
+                .endpoint()?
+                .connect()
+                .await
+                .map_err(ClientError::Connect)?,
+        };
         Ok(OxbindClient::from_channel(channel, self.retry).with_call_timeout(self.call_timeout))
     }
 
@@ -240,8 +322,14 @@ impl ClientBuilder {
 
     /// Connect on first use: an unreachable server then shows as UNAVAILABLE
     /// on the call (and is retried by the policy).
+    ///
+    /// A balancing client resolves the name in the background; calls wait
+    /// for the first addresses.
     pub fn connect_lazy(self) -> Result<OxbindClient, ClientError> {
-        let channel = self.endpoint()?.connect_lazy();
+        let channel = match &self.balancing {
+            Some(balancing) => balance::balanced_channel_lazy(&self, balancing)?,
+            None => self.endpoint()?.connect_lazy(),
+        };
         Ok(OxbindClient::from_channel(channel, self.retry).with_call_timeout(self.call_timeout))
     }
 }

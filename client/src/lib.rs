@@ -9,6 +9,8 @@
 //!   and `BloodConditions::standard().with_ph(7.31)...`.
 //! - One error type, [`ClientError`], with the status code and each refused
 //!   field ([`FieldViolation`]).
+//! - Balancing over every replica behind one name
+//!   ([`ClientBuilder::balance_over_dns`]; see [`balance`]).
 //! - [`json::to_json`] renders any message in the protobuf JSON mapping.
 //!
 //! ```no_run
@@ -34,6 +36,7 @@
 //! Results support, and never replace, measured co-oximetry and the
 //! judgement of licensed clinicians.
 
+pub mod balance;
 mod client;
 mod error;
 pub mod json;

@@ -27,7 +27,7 @@ use oxbind_client::v1::{
 };
 use oxbind_service::{
     grpc::{CatalogApi, ConsistencyApi, DissociationApi, TransportApi},
-    Config, ServeError,
+    Config,
 };
 use oxbind_tests::TestServer;
 use serde_json::Value;
@@ -254,7 +254,6 @@ async fn start_stand_in() -> TestServer {
             )))
             .serve_with_incoming_shutdown(TcpIncoming::from(listener), shutdown)
             .await
-            .map_err(ServeError::Transport)
     })
     .await
 }

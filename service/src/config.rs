@@ -37,8 +37,11 @@ pub const DEFAULT_MAX_ENCODED_MESSAGE_BYTES: usize = 32 * 1024 * 1024;
 pub const DEFAULT_CALL_TIMEOUT: Duration = Duration::from_secs(10);
 
 /// Default largest number of concurrent HTTP/2 streams (calls) on one
-/// connection.
-pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 128;
+/// connection; gRPC clients queue further calls themselves. With
+/// [`DEFAULT_MAX_CONNECTIONS`] it bounds what streams still waiting for their
+/// request can hold (RELIABILITY.md, "Memory bound"), and it keeps one
+/// connection to a quarter of [`DEFAULT_MAX_CONCURRENT_CALLS`].
+pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 16;
 
 /// Default largest number of calls in progress across the whole server; calls
 /// past it are refused at once with RESOURCE_EXHAUSTED. Health checks are not
@@ -46,8 +49,11 @@ pub const DEFAULT_MAX_CONCURRENT_STREAMS: u32 = 128;
 pub const DEFAULT_MAX_CONCURRENT_CALLS: usize = 64;
 
 /// Default largest number of open client connections on the main listener;
-/// further connections wait in the kernel's accept queue.
-pub const DEFAULT_MAX_CONNECTIONS: usize = 1024;
+/// further connections wait in the kernel's accept queue. A replica serves a
+/// few integration engines, each with a few connections; more callers call
+/// for more replicas. With [`DEFAULT_MAX_CONCURRENT_STREAMS`] it bounds the
+/// streams the server holds (RELIABILITY.md, "Memory bound").
+pub const DEFAULT_MAX_CONNECTIONS: usize = 256;
 
 /// Default interval between HTTP/2 keepalive pings on an idle connection.
 pub const DEFAULT_KEEPALIVE_INTERVAL: Duration = Duration::from_secs(30);
@@ -55,6 +61,58 @@ pub const DEFAULT_KEEPALIVE_INTERVAL: Duration = Duration::from_secs(30);
 /// Default time to wait for a keepalive ping's answer before closing the
 /// connection.
 pub const DEFAULT_KEEPALIVE_TIMEOUT: Duration = Duration::from_secs(10);
+
+/// Default time a client has to finish the TLS handshake after its TCP
+/// connection is accepted; past it the connection is closed.
+pub const DEFAULT_TLS_HANDSHAKE_TIMEOUT: Duration = Duration::from_secs(5);
+
+/// Default time a client has, once connected (and past TLS), to send the
+/// HTTP/2 connection preface (or, where HTTP/1.1 is spoken, its first request
+/// head); past it the connection is closed.
+pub const DEFAULT_PREFACE_TIMEOUT: Duration = Duration::from_secs(5);
+
+/// Default time a connection may stay open with no call in progress before
+/// the server closes it with a graceful GOAWAY. Keepalive pings do not count
+/// as calls.
+pub const DEFAULT_IDLE_TIMEOUT: Duration = Duration::from_secs(60);
+
+/// Default longest life of a connection: past it (give or take a tenth, so
+/// that connections opened together do not all close together) the server
+/// sends a graceful GOAWAY, and the client reconnects, possibly to another
+/// replica.
+pub const DEFAULT_MAX_CONNECTION_AGE: Duration = Duration::from_secs(5 * 60);
+
+/// Default time calls in progress on a connection get to finish after its
+/// maximum age's GOAWAY; then the connection is closed.
+pub const DEFAULT_MAX_CONNECTION_AGE_GRACE: Duration = Duration::from_secs(30);
+
+/// Default largest number of open connections on the plaintext health
+/// listener (a kubelet probe opens one per check and closes it).
+pub const DEFAULT_MAX_HEALTH_CONNECTIONS: usize = 64;
+
+/// Default largest number of streaming calls (server reflection, health
+/// Watch) in progress at once; they never take the unary call slots.
+pub const DEFAULT_MAX_STREAMING_CALLS: usize = 8;
+
+/// Default time a streaming call may pass no message either way before the
+/// server ends it.
+pub const DEFAULT_STREAMING_IDLE_TIMEOUT: Duration = Duration::from_secs(30);
+
+/// Default time a unary call's request (its headers, its one message and the
+/// end of the stream) has to arrive; past it the call ends with
+/// DEADLINE_EXCEEDED. A call takes no call slot until its request is in.
+pub const DEFAULT_REQUEST_ARRIVAL_TIMEOUT: Duration = Duration::from_secs(5);
+
+/// Default largest number of request bytes the server holds at once for
+/// calls whose request is arriving or in progress (16 MiB: four requests at
+/// the message limit). Past it a call is refused at once with
+/// RESOURCE_EXHAUSTED.
+pub const DEFAULT_MAX_REQUEST_BYTES_IN_FLIGHT: usize = 16 * 1024 * 1024;
+
+/// Default largest amount of work admitted at once, in items: a batch counts
+/// its items, EstimateP50 its pairs, SampleCurve one per 100 points, any
+/// other call one. 40,000 is four full batches at the default batch limit.
+pub const DEFAULT_MAX_ITEMS_IN_FLIGHT: usize = 40_000;
 
 /// Environment variable for [`Config::listen`].
 pub const ENV_LISTEN: &str = "OXBIND_LISTEN";
@@ -96,6 +154,30 @@ pub const ENV_KEEPALIVE_TIMEOUT: &str = "OXBIND_KEEPALIVE_TIMEOUT";
 pub const ENV_GRPC_WEB: &str = "OXBIND_GRPC_WEB";
 /// Environment variable for [`Config::cors_allowed_origins`].
 pub const ENV_CORS_ALLOWED_ORIGINS: &str = "OXBIND_CORS_ALLOWED_ORIGINS";
+/// Environment variable for [`Config::tls_handshake_timeout`].
+pub const ENV_TLS_HANDSHAKE_TIMEOUT: &str = "OXBIND_TLS_HANDSHAKE_TIMEOUT";
+/// Environment variable for [`Config::preface_timeout`].
+pub const ENV_PREFACE_TIMEOUT: &str = "OXBIND_PREFACE_TIMEOUT";
+/// Environment variable for [`Config::idle_timeout`].
+pub const ENV_IDLE_TIMEOUT: &str = "OXBIND_IDLE_TIMEOUT";
+/// Environment variable for [`Config::max_connection_age`].
+pub const ENV_MAX_CONNECTION_AGE: &str = "OXBIND_MAX_CONNECTION_AGE";
+/// Environment variable for [`Config::max_connection_age_grace`].
+pub const ENV_MAX_CONNECTION_AGE_GRACE: &str = "OXBIND_MAX_CONNECTION_AGE_GRACE";
+/// Environment variable for [`Config::max_health_connections`].
+pub const ENV_MAX_HEALTH_CONNECTIONS: &str = "OXBIND_MAX_HEALTH_CONNECTIONS";
+/// Environment variable for [`Config::max_streaming_calls`].
+pub const ENV_MAX_STREAMING_CALLS: &str = "OXBIND_MAX_STREAMING_CALLS";
+/// Environment variable for [`Config::streaming_idle_timeout`].
+pub const ENV_STREAMING_IDLE_TIMEOUT: &str = "OXBIND_STREAMING_IDLE_TIMEOUT";
+/// Environment variable for [`Config::request_arrival_timeout`].
+pub const ENV_REQUEST_ARRIVAL_TIMEOUT: &str = "OXBIND_REQUEST_ARRIVAL_TIMEOUT";
+/// Environment variable for [`Config::max_request_bytes_in_flight`].
+pub const ENV_MAX_REQUEST_BYTES_IN_FLIGHT: &str = "OXBIND_MAX_REQUEST_BYTES_IN_FLIGHT";
+/// Environment variable for [`Config::max_items_in_flight`].
+pub const ENV_MAX_ITEMS_IN_FLIGHT: &str = "OXBIND_MAX_ITEMS_IN_FLIGHT";
+/// Environment variable for [`Config::compute_threads`].
+pub const ENV_COMPUTE_THREADS: &str = "OXBIND_COMPUTE_THREADS";
 
 /// How log lines are written.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum)]
@@ -216,6 +298,82 @@ pub struct Config {
     #[arg(long, env = ENV_CORS_ALLOWED_ORIGINS, value_name = "ORIGINS", value_delimiter = ',',
           value_parser = parse_origin)]
     pub cors_allowed_origins: Vec<String>,
+
+    /// Time a client has to finish the TLS handshake; past it the connection
+    /// is closed.
+    #[arg(long, env = ENV_TLS_HANDSHAKE_TIMEOUT, default_value = "5s", value_name = "DURATION",
+          value_parser = parse_nonzero_duration)]
+    pub tls_handshake_timeout: Duration,
+
+    /// Time a client has, once connected, to send the HTTP/2 connection
+    /// preface (or its first HTTP/1.1 request head); past it the connection
+    /// is closed.
+    #[arg(long, env = ENV_PREFACE_TIMEOUT, default_value = "5s", value_name = "DURATION",
+          value_parser = parse_nonzero_duration)]
+    pub preface_timeout: Duration,
+
+    /// Time a connection may stay open with no call in progress (keepalive
+    /// pings do not count) before the server closes it with a GOAWAY.
+    #[arg(long, env = ENV_IDLE_TIMEOUT, default_value = "60s", value_name = "DURATION",
+          value_parser = parse_nonzero_duration)]
+    pub idle_timeout: Duration,
+
+    /// Longest life of a connection (give or take a tenth); then a graceful
+    /// GOAWAY, and the client reconnects, possibly to another replica.
+    #[arg(long, env = ENV_MAX_CONNECTION_AGE, default_value = "5m", value_name = "DURATION",
+          value_parser = parse_nonzero_duration)]
+    pub max_connection_age: Duration,
+
+    /// Time calls in progress get after a connection's maximum-age GOAWAY;
+    /// then the connection is closed.
+    #[arg(long, env = ENV_MAX_CONNECTION_AGE_GRACE, default_value = "30s",
+          value_name = "DURATION", value_parser = parse_duration)]
+    pub max_connection_age_grace: Duration,
+
+    /// Largest number of open connections on the health listener; more wait
+    /// in the kernel's accept queue.
+    #[arg(long, env = ENV_MAX_HEALTH_CONNECTIONS, value_name = "COUNT",
+          default_value_t = DEFAULT_MAX_HEALTH_CONNECTIONS, value_parser = parse_positive)]
+    pub max_health_connections: usize,
+
+    /// Largest number of streaming calls (server reflection, health Watch)
+    /// at once; past it they are refused with RESOURCE_EXHAUSTED. They never
+    /// take the unary call slots.
+    #[arg(long, env = ENV_MAX_STREAMING_CALLS, value_name = "COUNT",
+          default_value_t = DEFAULT_MAX_STREAMING_CALLS, value_parser = parse_positive)]
+    pub max_streaming_calls: usize,
+
+    /// Time a streaming call may pass no message either way before the
+    /// server ends it (DEADLINE_EXCEEDED).
+    #[arg(long, env = ENV_STREAMING_IDLE_TIMEOUT, default_value = "30s",
+          value_name = "DURATION", value_parser = parse_nonzero_duration)]
+    pub streaming_idle_timeout: Duration,
+
+    /// Time a unary call's request (headers, its one message, end of stream)
+    /// has to arrive; past it the call ends with DEADLINE_EXCEEDED. No call
+    /// slot is taken until the request is in.
+    #[arg(long, env = ENV_REQUEST_ARRIVAL_TIMEOUT, default_value = "5s",
+          value_name = "DURATION", value_parser = parse_nonzero_duration)]
+    pub request_arrival_timeout: Duration,
+
+    /// Largest number of request bytes held at once for calls whose request
+    /// is arriving or in progress; past it a call is refused with
+    /// RESOURCE_EXHAUSTED.
+    #[arg(long, env = ENV_MAX_REQUEST_BYTES_IN_FLIGHT, value_name = "BYTES",
+          default_value_t = DEFAULT_MAX_REQUEST_BYTES_IN_FLIGHT, value_parser = parse_positive)]
+    pub max_request_bytes_in_flight: usize,
+
+    /// Largest amount of work admitted at once, in items (a batch counts its
+    /// items, EstimateP50 its pairs, SampleCurve one per 100 points, any
+    /// other call one); past it a call is refused with RESOURCE_EXHAUSTED.
+    #[arg(long, env = ENV_MAX_ITEMS_IN_FLIGHT, value_name = "ITEMS",
+          default_value_t = DEFAULT_MAX_ITEMS_IN_FLIGHT, value_parser = parse_positive)]
+    pub max_items_in_flight: usize,
+
+    /// Threads of the pool that computes batches and other large calls, off
+    /// the threads that answer health. Default: one per available core.
+    #[arg(long, env = ENV_COMPUTE_THREADS, value_name = "COUNT", value_parser = parse_positive)]
+    pub compute_threads: Option<usize>,
 }
 
 impl Config {
@@ -225,7 +383,7 @@ impl Config {
     /// reason (naming the setting) and exits with [`EXIT_CONFIG_INVALID`].
     pub fn from_env_and_args() -> Self {
         match Self::try_parse() {
-            Ok(config) => match config.check_files() {
+            Ok(config) => match config.check_files().and_then(|()| config.check_limits()) {
                 Ok(()) => config,
                 Err(reason) => {
                     eprintln!("error: {reason}");
@@ -317,6 +475,48 @@ impl Config {
     }
 }
 
+impl Config {
+    /// Check that the limits fit together: every request the message limit
+    /// allows must fit in the request bytes in flight, and every batch the
+    /// batch limit allows must fit in the items in flight, or such calls
+    /// could never be admitted.
+    pub fn check_limits(&self) -> Result<(), String> {
+        let largest_request = self
+            .max_decoded_message_bytes
+            .saturating_add(GRPC_FRAME_PREFIX_BYTES);
+        if self.max_request_bytes_in_flight < largest_request {
+            return Err(format!(
+                "--max-request-bytes-in-flight {} is below --max-decoded-message-bytes {} \
+                 (plus {GRPC_FRAME_PREFIX_BYTES} bytes of framing): a request at the message \
+                 limit could never be admitted",
+                self.max_request_bytes_in_flight, self.max_decoded_message_bytes
+            ));
+        }
+        if self.max_items_in_flight < self.max_batch_items {
+            return Err(format!(
+                "--max-items-in-flight {} is below --max-batch-items {}: a batch at the \
+                 batch limit could never be admitted",
+                self.max_items_in_flight, self.max_batch_items
+            ));
+        }
+        Ok(())
+    }
+
+    /// Threads of the compute pool: the setting, or one per available core.
+    pub fn compute_threads(&self) -> usize {
+        self.compute_threads.unwrap_or_else(|| {
+            std::thread::available_parallelism().map_or(DEFAULT_COMPUTE_THREADS, usize::from)
+        })
+    }
+}
+
+/// Bytes of the gRPC length prefix in front of every message (a flag byte
+/// and a four-byte length; gRPC over HTTP/2 protocol).
+pub const GRPC_FRAME_PREFIX_BYTES: usize = 5;
+
+/// Compute threads when the number of cores cannot be read.
+pub const DEFAULT_COMPUTE_THREADS: usize = 2;
+
 impl Default for Config {
     fn default() -> Self {
         Self {
@@ -342,12 +542,31 @@ impl Default for Config {
             keepalive_timeout: DEFAULT_KEEPALIVE_TIMEOUT,
             grpc_web: false,
             cors_allowed_origins: Vec::new(),
+            tls_handshake_timeout: DEFAULT_TLS_HANDSHAKE_TIMEOUT,
+            preface_timeout: DEFAULT_PREFACE_TIMEOUT,
+            idle_timeout: DEFAULT_IDLE_TIMEOUT,
+            max_connection_age: DEFAULT_MAX_CONNECTION_AGE,
+            max_connection_age_grace: DEFAULT_MAX_CONNECTION_AGE_GRACE,
+            max_health_connections: DEFAULT_MAX_HEALTH_CONNECTIONS,
+            max_streaming_calls: DEFAULT_MAX_STREAMING_CALLS,
+            streaming_idle_timeout: DEFAULT_STREAMING_IDLE_TIMEOUT,
+            request_arrival_timeout: DEFAULT_REQUEST_ARRIVAL_TIMEOUT,
+            max_request_bytes_in_flight: DEFAULT_MAX_REQUEST_BYTES_IN_FLIGHT,
+            max_items_in_flight: DEFAULT_MAX_ITEMS_IN_FLIGHT,
+            compute_threads: None,
         }
     }
 }
 
 fn parse_duration(text: &str) -> Result<Duration, String> {
     humantime::parse_duration(text).map_err(|e| format!("not a duration such as `10s` ({e})"))
+}
+
+fn parse_nonzero_duration(text: &str) -> Result<Duration, String> {
+    match parse_duration(text)? {
+        Duration::ZERO => Err("must be longer than zero".to_owned()),
+        duration => Ok(duration),
+    }
 }
 
 fn parse_log_filter(text: &str) -> Result<String, String> {
@@ -434,6 +653,67 @@ mod tests {
         assert_eq!(parsed.tls_cert, default.tls_cert);
         assert!(!parsed.no_reflection && !parsed.grpc_web);
         assert!(parsed.health_listen.is_none());
+    }
+
+    #[test]
+    fn the_connection_and_admission_defaults_match_the_named_constants() {
+        let parsed = Config::try_parse_from(["oxbind-server"]).unwrap();
+        assert_eq!(parsed.tls_handshake_timeout, DEFAULT_TLS_HANDSHAKE_TIMEOUT);
+        assert_eq!(parsed.preface_timeout, DEFAULT_PREFACE_TIMEOUT);
+        assert_eq!(parsed.idle_timeout, DEFAULT_IDLE_TIMEOUT);
+        assert_eq!(parsed.max_connection_age, DEFAULT_MAX_CONNECTION_AGE);
+        assert_eq!(
+            parsed.max_connection_age_grace,
+            DEFAULT_MAX_CONNECTION_AGE_GRACE
+        );
+        assert_eq!(
+            parsed.max_health_connections,
+            DEFAULT_MAX_HEALTH_CONNECTIONS
+        );
+        assert_eq!(parsed.max_streaming_calls, DEFAULT_MAX_STREAMING_CALLS);
+        assert_eq!(
+            parsed.streaming_idle_timeout,
+            DEFAULT_STREAMING_IDLE_TIMEOUT
+        );
+        assert_eq!(
+            parsed.request_arrival_timeout,
+            DEFAULT_REQUEST_ARRIVAL_TIMEOUT
+        );
+        assert_eq!(
+            parsed.max_request_bytes_in_flight,
+            DEFAULT_MAX_REQUEST_BYTES_IN_FLIGHT
+        );
+        assert_eq!(parsed.max_items_in_flight, DEFAULT_MAX_ITEMS_IN_FLIGHT);
+        assert_eq!(parsed.compute_threads, None);
+        assert!(parsed.compute_threads() >= 1);
+        parsed.check_limits().expect("the defaults fit together");
+    }
+
+    #[test]
+    fn limits_that_could_never_admit_a_valid_request_are_refused() {
+        let config = Config::try_parse_from([
+            "oxbind-server",
+            "--max-items-in-flight",
+            "500",
+            "--max-batch-items",
+            "1000",
+        ])
+        .unwrap();
+        let reason = config.check_limits().unwrap_err();
+        assert!(reason.contains("--max-items-in-flight"), "{reason}");
+        let config =
+            Config::try_parse_from(["oxbind-server", "--max-request-bytes-in-flight", "1048576"])
+                .unwrap();
+        let reason = config.check_limits().unwrap_err();
+        assert!(reason.contains("--max-request-bytes-in-flight"), "{reason}");
+    }
+
+    #[test]
+    fn a_zero_timeout_is_refused_naming_the_flag() {
+        let error =
+            Config::try_parse_from(["oxbind-server", "--preface-timeout", "0s"]).unwrap_err();
+        assert!(error.to_string().contains("--preface-timeout"), "{error}");
+        assert!(error.to_string().contains("longer than zero"), "{error}");
     }
 
     #[test]

@@ -63,6 +63,11 @@ pub(crate) struct Instruments {
     pub(crate) warnings: Counter<u64>,
     /// `oxbind.refused_inputs`: refused inputs, by field path.
     pub(crate) refused_inputs: Counter<u64>,
+    /// `oxbind.server.panics`: handler panics answered INTERNAL.
+    pub(crate) panics: Counter<u64>,
+    /// `oxbind.server.connections.closed`: connections the server closed,
+    /// by listener and reason.
+    pub(crate) connections_closed: Counter<u64>,
 }
 
 /// The instruments; created on first use, after `telemetry::init` set the provider.
@@ -96,6 +101,18 @@ pub(crate) fn instruments() -> &'static Instruments {
                 .u64_counter("oxbind.refused_inputs")
                 .with_unit("{input}")
                 .with_description("Inputs refused as invalid, by field path (never the value)")
+                .build(),
+            panics: meter
+                .u64_counter("oxbind.server.panics")
+                .with_unit("{panic}")
+                .with_description("Handler panics caught and answered INTERNAL")
+                .build(),
+            connections_closed: meter
+                .u64_counter("oxbind.server.connections.closed")
+                .with_unit("{connection}")
+                .with_description(
+                    "Connections the server closed, by listener and reason (deadline, idle, age)",
+                )
                 .build(),
         }
     })
@@ -136,6 +153,23 @@ pub fn record_warnings(codes: &[&'static str]) {
 /// value.
 pub fn record_model(model_id: &'static str) {
     tracing::Span::current().record("oxbind.model_id", model_id);
+}
+
+/// Count one handler panic caught and answered INTERNAL.
+pub fn record_panic() {
+    instruments().panics.add(1, &[]);
+}
+
+/// Count one connection the server closed on `listener` (`main`, `health`)
+/// for `reason` (`preface_timeout`, `idle`, `max_age`, ...).
+pub fn record_connection_closed(listener: &'static str, reason: &'static str) {
+    instruments().connections_closed.add(
+        1,
+        &[
+            KeyValue::new("oxbind.listener", listener),
+            KeyValue::new("oxbind.reason", reason),
+        ],
+    );
 }
 
 /// Count one refused input at `field_path`; list indices are dropped

@@ -8,11 +8,11 @@
 //!   validated domain input, to physiology, and back to the response message
 //!   or a refusal.
 //! - The doors, which only convert and call [`api`]: [`grpc`] (tonic's
-//!   service traits) and [`http`] (the dispatch in front of the routes, and
-//!   the Connect protocol).
-//! - [`server`], [`config`], [`layers`], [`tls`], [`telemetry`],
-//!   [`shutdown`]: start-up, per-call layers, limits, TLS, telemetry and
-//!   shutdown.
+//!   service traits) and [`http`] (the dispatch in front of the routes, the
+//!   Connect protocol and the FHIR R4 door).
+//! - [`server`], [`config`], [`layers`], [`telemetry`], [`shutdown`]:
+//!   start-up, the connection loop and TLS, per-call layers, admission,
+//!   telemetry and shutdown.
 //! - [`instruments`] and [`identity`]: the metric instruments and the build's
 //!   identity, at the bottom: `api`, `layers`, `http` and `telemetry` use
 //!   them, and they use nothing of the crate.
@@ -31,7 +31,6 @@ pub mod physiology;
 pub mod server;
 pub mod shutdown;
 pub mod telemetry;
-pub mod tls;
 
 pub use config::Config;
 pub use identity::{BUILD_COMMIT, SERVICE_VERSION};

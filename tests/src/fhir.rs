@@ -250,11 +250,23 @@ pub mod wire {
         path: &str,
         body: &[u8],
     ) -> FhirAnswer {
+        http1_declaring(label, address, method, path, body.len(), body).await
+    }
+
+    /// Like [`http1`], with a `content-length` of `declared` whatever the
+    /// `body` sent: a client that sends less than it declared and waits.
+    pub async fn http1_declaring(
+        label: &str,
+        address: std::net::SocketAddr,
+        method: &str,
+        path: &str,
+        declared: usize,
+        body: &[u8],
+    ) -> FhirAnswer {
         let mut stream = tokio::net::TcpStream::connect(address).await.unwrap();
         let head = format!(
             "{method} {path} HTTP/1.1\r\nhost: {address}\r\ncontent-type: application/fhir+json\r\n\
-content-length: {}\r\nconnection: close\r\n\r\n",
-            body.len()
+content-length: {declared}\r\nconnection: close\r\n\r\n"
         );
         stream.write_all(head.as_bytes()).await.unwrap();
         stream.write_all(body).await.unwrap();

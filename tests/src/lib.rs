@@ -9,7 +9,7 @@ pub mod fhir;
 
 use std::{future::Future, net::SocketAddr, pin::Pin};
 
-use oxbind_service::{Config, ServeError};
+use oxbind_service::Config;
 use tokio::{net::TcpListener, sync::oneshot, task::JoinHandle};
 use tonic::transport::Channel;
 
@@ -20,7 +20,7 @@ pub type Shutdown = Pin<Box<dyn Future<Output = ()> + Send + 'static>>;
 pub struct TestServer {
     address: SocketAddr,
     stop: Option<oneshot::Sender<()>>,
-    task: Option<JoinHandle<Result<(), oxbind_service::ServeError>>>,
+    task: Option<JoinHandle<Result<(), String>>>,
 }
 
 impl TestServer {
@@ -37,25 +37,29 @@ impl TestServer {
     }
 
     /// Start a stand-in server: `serve` gets the bound listener and the
-    /// shutdown future and runs until that future completes. For tests that
-    /// need a deliberately different server (a test double); every other
-    /// test uses [`TestServer::start`].
-    pub async fn start_serving<S, F>(serve: S) -> Self
+    /// shutdown future and runs until that future completes (its error, if
+    /// any, is any that displays: oxbind's own, or tonic's for a test
+    /// double on tonic's server). For tests that need a deliberately
+    /// different server (a test double); every other test uses
+    /// [`TestServer::start`].
+    pub async fn start_serving<S, F, E>(serve: S) -> Self
     where
         S: FnOnce(TcpListener, Shutdown) -> F,
-        F: Future<Output = Result<(), ServeError>> + Send + 'static,
+        F: Future<Output = Result<(), E>> + Send + 'static,
+        E: std::fmt::Display + Send + 'static,
     {
         let listener = TcpListener::bind("127.0.0.1:0")
             .await
             .expect("bind an ephemeral port");
         let address = listener.local_addr().expect("local address");
         let (stop, stopped) = oneshot::channel::<()>();
-        let task = tokio::spawn(serve(
+        let serving = serve(
             listener,
             Box::pin(async move {
                 let _ = stopped.await;
             }),
-        ));
+        );
+        let task = tokio::spawn(async move { serving.await.map_err(|e| e.to_string()) });
         Self {
             address,
             stop: Some(stop),

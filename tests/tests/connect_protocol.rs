@@ -2,8 +2,8 @@
 //! (hyper's client) to a real server on port 0: every shared vector gives
 //! the same answer as gRPC in both codecs, over HTTP/1.1 and HTTP/2, by POST
 //! and by GET; refusals carry the gRPC status's details in Connect's error
-//! shape; deadlines, limits, load shedding, the request id and CORS hold as
-//! for gRPC. The protocol's facts are from its reference,
+//! shape; deadlines, limits, admission (call slots taken once the request
+//! is in, work counted in items), the request id and CORS hold as for gRPC. The protocol's facts are from its reference,
 //! https://connectrpc.com/docs/protocol.
 
 use base64::Engine as _;
@@ -692,8 +692,11 @@ async fn size_limits_hold_for_requests_and_responses() {
     server.stop().await;
 }
 
+/// The Connect door is admitted as gRPC is (layers/admission.rs): a call
+/// takes a call slot only once its whole request is in, so a caller that
+/// sends its headers and holds its body back holds none.
 #[tokio::test]
-async fn past_the_call_limit_a_connect_call_is_shed_with_resource_exhausted() {
+async fn a_connect_call_whose_body_has_not_arrived_holds_no_call_slot() {
     use http_body_util::{BodyExt, StreamBody};
     use hyper::body::Frame;
     use hyper_util::rt::TokioIo;
@@ -703,8 +706,7 @@ async fn past_the_call_limit_a_connect_call_is_shed_with_resource_exhausted() {
         ..Config::default()
     };
     let server = TestServer::start_with(config).await;
-    // The first call sends its headers and holds its body back: it holds
-    // the only call slot while the server waits for the body.
+    // The first call sends its headers and holds its body back.
     let (body_tx, body_rx) = tokio::sync::mpsc::channel::<Result<Frame<Bytes>, std::io::Error>>(1);
     let stream = tokio::net::TcpStream::connect(server.address())
         .await
@@ -724,25 +726,23 @@ async fn past_the_call_limit_a_connect_call_is_shed_with_resource_exhausted() {
         .unwrap();
     let held = tokio::spawn(sender.send_request(held));
 
-    // Until the held call has reached the server, another call may still
-    // get the slot; past that point every other call is shed.
-    let mut shed = None;
-    for _ in 0..500 {
+    // Whether or not the held call has reached the server, the only call
+    // slot is free for others.
+    for _ in 0..20 {
         let answer = send(
             server.address(),
             Version::Http1,
             connect_post(LIST_MODELS, "application/json", "{}"),
         )
         .await;
-        if answer.status == 429 {
-            shed = Some(answer);
-            break;
-        }
+        assert_eq!(
+            answer.status,
+            200,
+            "{}",
+            String::from_utf8_lossy(&answer.body)
+        );
         tokio::task::yield_now().await;
     }
-    let shed = shed.expect("a call past the limit is shed");
-    assert_eq!(shed.json()["code"], "resource_exhausted");
-    assert!(!shed.header("x-request-id").is_empty());
 
     // The held call completes once its body arrives.
     let body = r#"{"po2":{"value":60,"unit":"mm[Hg]"}}"#;
@@ -756,6 +756,115 @@ async fn past_the_call_limit_a_connect_call_is_shed_with_resource_exhausted() {
     let bytes = response.into_body().collect().await.unwrap().to_bytes();
     let json: Value = serde_json::from_slice(&bytes).unwrap();
     assert!(json["saturationFraction"].as_f64().is_some());
+    server.stop().await;
+}
+
+#[tokio::test]
+async fn past_the_call_limit_a_connect_call_is_shed_with_resource_exhausted() {
+    use std::sync::{
+        atomic::{AtomicBool, Ordering},
+        Arc,
+    };
+
+    let config = Config {
+        max_concurrent_calls: 1,
+        ..Config::default()
+    };
+    let server = TestServer::start_with(config).await;
+    let address = server.address();
+    // Heavy curves, one after another: each holds the only call slot while
+    // the compute pool computes it (about a second in a debug build).
+    let stop = Arc::new(AtomicBool::new(false));
+    let holder = {
+        let stop = stop.clone();
+        tokio::spawn(async move {
+            let mut statuses = Vec::new();
+            while !stop.load(Ordering::Relaxed) {
+                let answer = send(
+                    address,
+                    Version::Http1,
+                    connect_post(CURVE, "application/json", heavy_curve()),
+                )
+                .await;
+                statuses.push(answer.status);
+            }
+            statuses
+        })
+    };
+    // A call that arrives while a curve is computed is shed.
+    let deadline = std::time::Instant::now() + std::time::Duration::from_secs(60);
+    let mut shed = None;
+    while shed.is_none() && std::time::Instant::now() < deadline {
+        let answer = send(
+            address,
+            Version::Http1,
+            connect_post(LIST_MODELS, "application/json", "{}"),
+        )
+        .await;
+        match answer.status {
+            429 => shed = Some(answer),
+            200 => tokio::time::sleep(std::time::Duration::from_millis(5)).await,
+            other => panic!("only OK or shed: {other}"),
+        }
+    }
+    stop.store(true, Ordering::Relaxed);
+    let shed = shed.expect("a call past the limit is shed");
+    assert_eq!(shed.json()["code"], "resource_exhausted");
+    assert!(
+        shed.json()["message"]
+            .as_str()
+            .is_some_and(|m| m.contains("concurrent call limit")),
+        "{}",
+        shed.json()
+    );
+    assert!(!shed.header("x-request-id").is_empty());
+    let statuses = holder.await.unwrap();
+    assert!(statuses.contains(&200), "{statuses:?}");
+    assert!(
+        statuses.iter().all(|s| *s == 200 || *s == 429),
+        "{statuses:?}"
+    );
+    server.stop().await;
+}
+
+/// A Connect call's work is counted from its JSON before it is decoded, as
+/// a gRPC call's is from its message: a batch of more items than the server
+/// admits at once is refused, and one within it is computed.
+#[tokio::test]
+async fn a_connect_batch_is_admitted_by_its_items() {
+    let config = Config {
+        max_items_in_flight: 100,
+        ..Config::default()
+    };
+    let server = TestServer::start_with(config).await;
+    let batch = |items: usize| {
+        let one = json!({"po2": {"value": 60, "unit": "mm[Hg]"}});
+        json!({"requests": vec![one; items]}).to_string()
+    };
+    const BATCH: &str = "/oxbind.v1.DissociationService/BatchSaturationFromTension";
+    for version in VERSIONS {
+        let answer = send(
+            server.address(),
+            version,
+            connect_post(BATCH, "application/json", batch(101)),
+        )
+        .await;
+        assert_eq!(answer.status, 429, "{version:?}");
+        assert_eq!(answer.json()["code"], "resource_exhausted");
+        let message = answer.json()["message"]
+            .as_str()
+            .unwrap_or_default()
+            .to_owned();
+        assert!(message.contains("101 items"), "{message}");
+        let answer = send(
+            server.address(),
+            version,
+            connect_post(BATCH, "application/json", batch(100)),
+        )
+        .await;
+        assert_eq!(answer.status, 200, "{version:?}");
+        assert_eq!(answer.json()["results"].as_array().map(Vec::len), Some(100));
+    }
     server.stop().await;
 }
 

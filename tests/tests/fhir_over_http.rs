@@ -1,6 +1,7 @@
 //! The FHIR door on a real server's main listener: HTTP/1.1 and HTTP/2,
-//! the per-call layer (request id echoed), the body size limit, and the
-//! same answers as the door itself. Every answer is kept for the
+//! the per-call layer (request id echoed), the body size limit, admission
+//! (a body that does not arrive in time holds no call slot), and the same
+//! answers as the door itself. Every answer is kept for the
 //! validators (tests/fhir/run.sh).
 
 use http::Method;
@@ -107,5 +108,35 @@ async fn a_body_over_the_message_limit_is_refused_with_413() {
     .await;
     assert_eq!(answer.status, 413, "{:#}", answer.body);
     assert_eq!(answer.issues()[0]["code"], "too-costly");
+    server.stop().await;
+}
+
+/// The FHIR door is admitted as gRPC is (layers/admission.rs): a caller
+/// that declares a body and does not send it holds no call slot, and is
+/// answered 408 once the request arrival timeout has passed.
+#[tokio::test]
+async fn a_body_that_does_not_arrive_in_time_is_refused_and_holds_no_call_slot() {
+    let config = Config {
+        max_concurrent_calls: 1,
+        request_arrival_timeout: std::time::Duration::from_millis(500),
+        ..Config::default()
+    };
+    let server = TestServer::start_with(config).await;
+    let at = address(&server);
+    let late = tokio::spawn(async move {
+        wire::http1_declaring("http1-late-body", at, "POST", fhir::OPERATION, 4096, b"{").await
+    });
+    // Meanwhile the only call slot is free for others.
+    for _ in 0..5 {
+        let metadata = wire::http1("http1-metadata", at, "GET", "/fhir/r4/metadata", b"").await;
+        assert_eq!(metadata.status, 200, "{:#}", metadata.body);
+    }
+    let late = tokio::time::timeout(std::time::Duration::from_secs(10), late)
+        .await
+        .expect("answered within the arrival timeout")
+        .unwrap();
+    assert_eq!(late.status, 408, "{:#}", late.body);
+    assert_eq!(late.body["resourceType"], "OperationOutcome");
+    assert_eq!(late.issues()[0]["code"], "timeout");
     server.stop().await;
 }

@@ -116,7 +116,37 @@ impl ReportedSettings {
             (
                 "max-concurrent-calls",
                 config.max_concurrent_calls.to_string(),
-                "calls in progress on the whole server",
+                "calls computed or answered at once on the whole server (each connection a fair share)",
+            ),
+            (
+                "max-items-in-flight",
+                config.max_items_in_flight.to_string(),
+                "work admitted at once, in items",
+            ),
+            (
+                "max-request-bytes-in-flight",
+                config.max_request_bytes_in_flight.to_string(),
+                "request bytes held at once for calls arriving or in progress",
+            ),
+            (
+                "request-arrival-timeout",
+                duration(config.request_arrival_timeout),
+                "time a call's request has to arrive; no call slot is held meanwhile",
+            ),
+            (
+                "compute-threads",
+                config.compute_threads().to_string(),
+                "threads of the pool that computes calls of 32 items or more",
+            ),
+            (
+                "max-streaming-calls",
+                config.max_streaming_calls.to_string(),
+                "streaming calls (reflection, health Watch) at once, per listener",
+            ),
+            (
+                "streaming-idle-timeout",
+                duration(config.streaming_idle_timeout),
+                "time a streaming call may pass no message before it is ended",
             ),
             (
                 "max-concurrent-streams",
@@ -127,6 +157,36 @@ impl ReportedSettings {
                 "max-connections",
                 config.max_connections.to_string(),
                 "open connections on the main listener",
+            ),
+            (
+                "max-health-connections",
+                config.max_health_connections.to_string(),
+                "open connections on the health listener",
+            ),
+            (
+                "tls-handshake-timeout",
+                duration(config.tls_handshake_timeout),
+                "time a client has to finish the TLS handshake",
+            ),
+            (
+                "preface-timeout",
+                duration(config.preface_timeout),
+                "time a client has to send the HTTP/2 preface or its first HTTP/1.1 request head",
+            ),
+            (
+                "idle-timeout",
+                duration(config.idle_timeout),
+                "time a connection with no call in progress stays open",
+            ),
+            (
+                "max-connection-age",
+                duration(config.max_connection_age),
+                "longest life of a connection before a graceful GOAWAY",
+            ),
+            (
+                "max-connection-age-grace",
+                duration(config.max_connection_age_grace),
+                "time calls in progress get after a maximum-age or idle GOAWAY",
             ),
             (
                 "keepalive-interval",
@@ -229,6 +289,10 @@ mod tests {
         assert_eq!(value_of(&response, "reflection"), "on");
         assert_eq!(value_of(&response, "cors-allowed-origins"), "none");
         assert_eq!(value_of(&response, "health-listen"), "off");
+        assert_eq!(value_of(&response, "max-items-in-flight"), "40000");
+        assert_eq!(value_of(&response, "request-arrival-timeout"), "5s");
+        assert_eq!(value_of(&response, "max-connections"), "256");
+        assert_eq!(value_of(&response, "tls-handshake-timeout"), "5s");
     }
 
     #[test]

@@ -3,6 +3,7 @@
 
 use oxbind_service::{
     config::{Config, EXIT_CONFIG_INVALID},
+    layers::{connections::ensure_open_file_limit, panic},
     serve_on,
     shutdown::shutdown_signal,
     telemetry, ServeError,
@@ -18,7 +19,13 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 #[tokio::main]
 async fn main() {
     let config = Config::from_env_and_args();
+    let connections = (config.max_connections + config.max_health_connections) as u64;
+    if let Err(reason) = ensure_open_file_limit(connections) {
+        eprintln!("error: {reason}");
+        std::process::exit(EXIT_CONFIG_INVALID);
+    }
     let telemetry = telemetry::init(config.log_format, &config.log_filter);
+    panic::install_hook();
     // Install the signal handlers before anything can report "serving".
     let shutdown = shutdown_signal();
 

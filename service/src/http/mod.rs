@@ -1,23 +1,26 @@
 //! The doors beside gRPC on the main listener, and the dispatch in front of
 //! every route.
 //!
-//! [`DispatchLayer`] sits in front of the gRPC routes (see `server.rs`) and
-//! sends each request to one door, by path, method and content type
-//! ([`door_for`]):
+//! [`DispatchLayer`] sits in front of every door (see `server.rs`), behind
+//! the connection loop and CORS, and sends each request to one door, by
+//! path, method and content type ([`door_for`]):
 //!
 //! | request | door |
 //! | --- | --- |
 //! | a path under `/fhir/r4` | the FHIR R4 door ([`fhir`]), whatever the content type |
-//! | `content-type: application/grpc*` over HTTP/2 | on to the gRPC stack |
-//! | `content-type: application/grpc*` over HTTP/1.1 | refused here: 505 (gRPC needs HTTP/2) |
-//! | `content-type: application/grpc-web*` | on to the gRPC stack with `--grpc-web`, else refused: 415 |
+//! | a gRPC or grpc-web content type ([`crate::layers::protocol::grpc_content_type`]) | on to the gRPC stack, whose strict layer refuses grpc-web without `--grpc-web` (415), a method other than POST (405), plain gRPC over HTTP/1.1 (505) and grpc-web from a browser origin not allowed (403) |
 //! | `POST` with `application/json` or `application/proto` | the Connect protocol ([`connect`]) |
 //! | `GET /oxbind.v1.*` (or any `GET` with Connect's `encoding` query) | Connect's GET form |
 //! | anything else for a `/oxbind.v1.` path | refused here: 415, or 405 for a method other than GET and POST |
-//! | anything else | on to the gRPC stack (which answers or refuses it) |
+//! | anything else | on to the gRPC stack (whose strict layer refuses it: 415) |
 //!
+//! Each door has its own copy of the per-call layer, panic catching and
+//! admission (the gRPC stack's, or [`crate::layers::door::DoorLayers`] for
+//! Connect and FHIR), so that every call gets the same request id,
+//! deadline, log line and limits, and answers in its own protocol's shape.
 //! Only gRPC and grpc-web requests (and requests for no door at all) reach
-//! the gRPC stack, so a gRPC-only strictness layer can sit behind this one.
+//! the gRPC stack, so gRPC's strictness never sees Connect's
+//! `application/json`.
 
 pub mod connect;
 pub mod fhir;
@@ -34,6 +37,7 @@ use tonic::body::Body;
 use tower::{Layer, Service, ServiceExt};
 
 use self::connect::Codec;
+use crate::layers::protocol::grpc_content_type;
 
 /// Path prefix of every v1 procedure (`/oxbind.v1.<Service>/<Method>`).
 pub const V1_PATH_PREFIX: &str = "/oxbind.v1.";
@@ -86,35 +90,26 @@ impl<'a, B> From<&'a Request<B>> for RequestHead<'a> {
     }
 }
 
-/// The door for a request, when grpc-web is served (`grpc_web`) or not.
-pub fn door_for(head: RequestHead<'_>, grpc_web: bool) -> Door {
+/// The door for a request.
+pub fn door_for(head: RequestHead<'_>) -> Door {
     let RequestHead {
         method,
-        version,
         path,
         query,
         headers,
+        ..
     } = head;
     if fhir::door::is_fhir_path(path) {
         return Door::Fhir;
     }
+    // gRPC and grpc-web, over any HTTP version: whether they are served is
+    // the gRPC stack's strict layer's to say.
+    if grpc_content_type(headers).is_some() {
+        return Door::Grpc;
+    }
     let content_type = headers
         .get(header::CONTENT_TYPE)
         .and_then(|v| v.to_str().ok());
-    if let Some(content_type) = content_type.filter(|t| t.starts_with("application/grpc")) {
-        let web = content_type.starts_with("application/grpc-web");
-        return match (web, grpc_web) {
-            // grpc-web without --grpc-web: a content type not served.
-            (true, false) => Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE),
-            (true, true) => Door::Grpc,
-            // gRPC is HTTP/2 only; the listener speaks HTTP/1.1 for the
-            // other doors.
-            (false, _) if version < Version::HTTP_2 => {
-                Door::Refuse(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
-            }
-            (false, _) => Door::Grpc,
-        };
-    }
     let v1 = path.starts_with(V1_PATH_PREFIX);
     if method == Method::POST {
         return match content_type.map(Codec::from_content_type) {
@@ -149,12 +144,11 @@ fn refusal(status: StatusCode) -> Response<Body> {
             Some((header::ALLOW, ALLOWED_METHODS)),
             "this path answers GET and POST only\n",
         ),
-        StatusCode::HTTP_VERSION_NOT_SUPPORTED => (
-            None,
-            "gRPC needs HTTP/2; over HTTP/1.1 use the Connect protocol (application/json or application/proto)\n",
-        ),
         _ => (
-            Some((header::HeaderName::from_static("accept-post"), ACCEPTED_CONTENT_TYPES)),
+            Some((
+                header::HeaderName::from_static("accept-post"),
+                ACCEPTED_CONTENT_TYPES,
+            )),
             "content type not served at this path: send application/json or application/proto \
 (the Connect protocol; GET with ?encoding=json or proto) or application/grpc\n",
         ),
@@ -179,19 +173,14 @@ fn refusal(status: StatusCode) -> Response<Body> {
 pub struct DispatchLayer<C, F> {
     connect: C,
     fhir: F,
-    grpc_web: bool,
 }
 
 impl<C, F> DispatchLayer<C, F> {
     /// Send Connect requests to `connect` and FHIR requests to `fhir` (each
-    /// door with its own copy of the per-call layer); gRPC (and grpc-web when
-    /// `grpc_web` is served) go to the wrapped service.
-    pub fn new(connect: C, fhir: F, grpc_web: bool) -> Self {
-        Self {
-            connect,
-            fhir,
-            grpc_web,
-        }
+    /// door with its own copy of the per-call layer); gRPC and grpc-web go
+    /// to the wrapped service (the gRPC stack).
+    pub fn new(connect: C, fhir: F) -> Self {
+        Self { connect, fhir }
     }
 }
 
@@ -203,7 +192,6 @@ impl<S, C: Clone, F: Clone> Layer<S> for DispatchLayer<C, F> {
             grpc,
             connect: self.connect.clone(),
             fhir: self.fhir.clone(),
-            grpc_web: self.grpc_web,
         }
     }
 }
@@ -214,7 +202,6 @@ pub struct Dispatch<S, C, F> {
     grpc: S,
     connect: C,
     fhir: F,
-    grpc_web: bool,
 }
 
 impl<S, C, F> Service<Request<Body>> for Dispatch<S, C, F>
@@ -242,7 +229,7 @@ where
     }
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
-        let door = door_for(RequestHead::from(&request), self.grpc_web);
+        let door = door_for(RequestHead::from(&request));
         match door {
             Door::Grpc => {
                 // Take the service that was driven to readiness; leave a clone.
@@ -285,12 +272,11 @@ mod tests {
     use super::*;
 
     fn door(method: Method, target: &str, content_type: Option<&'static str>) -> Door {
-        door_over(Version::HTTP_2, true, method, target, content_type)
+        door_over(Version::HTTP_2, method, target, content_type)
     }
 
     fn door_over(
         version: Version,
-        grpc_web: bool,
         method: Method,
         target: &str,
         content_type: Option<&'static str>,
@@ -303,7 +289,7 @@ mod tests {
             request = request.header(header::CONTENT_TYPE, value);
         }
         let request = request.body(()).unwrap();
-        door_for(RequestHead::from(&request), grpc_web)
+        door_for(RequestHead::from(&request))
     }
 
     const SATURATION: &str = "/oxbind.v1.DissociationService/SaturationFromTension";
@@ -332,47 +318,54 @@ mod tests {
     }
 
     #[test]
-    fn grpc_web_without_the_flag_and_grpc_over_http1_are_refused() {
+    fn grpc_over_http1_and_grpc_web_go_on_to_the_grpc_stack_whose_strict_layer_decides() {
+        // The strict layer (layers/grpc_strict.rs) refuses plain gRPC over
+        // HTTP/1.1 with 505 and grpc-web without --grpc-web with 415.
+        for content_type in ["application/grpc", "application/grpc-web+proto"] {
+            assert_eq!(
+                door_over(
+                    Version::HTTP_11,
+                    Method::POST,
+                    SATURATION,
+                    Some(content_type)
+                ),
+                Door::Grpc,
+                "{content_type}"
+            );
+        }
+        // A method other than POST is the strict layer's too (405, Allow:
+        // POST), even for a v1 path.
         assert_eq!(
-            door_over(
-                Version::HTTP_11,
-                false,
-                Method::POST,
-                SATURATION,
-                Some("application/grpc-web+proto")
-            ),
-            Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE)
-        );
-        assert_eq!(
-            door_over(
-                Version::HTTP_11,
-                true,
-                Method::POST,
-                SATURATION,
-                Some("application/grpc-web+proto")
-            ),
+            door(Method::PUT, SATURATION, Some("application/grpc")),
             Door::Grpc
-        );
-        assert_eq!(
-            door_over(
-                Version::HTTP_11,
-                true,
-                Method::POST,
-                SATURATION,
-                Some("application/grpc")
-            ),
-            Door::Refuse(StatusCode::HTTP_VERSION_NOT_SUPPORTED)
         );
         // Connect over HTTP/1.1 is served with or without grpc-web.
         assert_eq!(
             door_over(
                 Version::HTTP_11,
-                false,
                 Method::POST,
                 SATURATION,
                 Some("application/json")
             ),
             Door::Connect
+        );
+    }
+
+    #[test]
+    fn a_content_type_that_is_neither_grpc_nor_connect_is_refused_for_a_v1_path() {
+        // Not a gRPC content type this server serves (only the protobuf
+        // codec), nor Connect's.
+        assert_eq!(
+            door(Method::POST, SATURATION, Some("application/grpc+json")),
+            Door::Refuse(StatusCode::UNSUPPORTED_MEDIA_TYPE)
+        );
+        assert_eq!(
+            door(
+                Method::POST,
+                "/grpc.health.v1.Health/Check",
+                Some("application/grpc+json")
+            ),
+            Door::Grpc
         );
     }
 
@@ -467,13 +460,7 @@ mod tests {
             assert_eq!(door(method, target, content_type), Door::Fhir, "{target}");
         }
         assert_eq!(
-            door_over(
-                Version::HTTP_11,
-                false,
-                Method::GET,
-                "/fhir/r4/metadata",
-                None
-            ),
+            door_over(Version::HTTP_11, Method::GET, "/fhir/r4/metadata", None),
             Door::Fhir
         );
         // Only the path prefix itself, not a look-alike.

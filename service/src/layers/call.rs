@@ -6,12 +6,25 @@
 //! - one server span named by the fully qualified method, joined to the
 //!   caller's W3C `traceparent`, with the OpenTelemetry RPC attributes;
 //! - the deadline: the configured call timeout or the caller's shorter
-//!   `grpc-timeout`, past which the call gets DEADLINE_EXCEEDED;
-//! - load shedding: past the server-wide call limit a call is refused at once
-//!   with RESOURCE_EXHAUSTED (health checks are exempt and never counted);
+//!   `grpc-timeout`, past which the call gets DEADLINE_EXCEEDED. It covers
+//!   the whole call, sending the answer included, so a caller that never
+//!   reads its answer cannot hold the call open; streaming calls have an
+//!   idle timeout instead ([`super::streaming`]);
 //! - when the response ends: `rpc.server.call.duration` and the call counter,
 //!   refused field paths of an INVALID_ARGUMENT, and one log line with method,
-//!   status, latency, request id and trace id. Never a body or a value.
+//!   status, latency, request id and trace id. Never a body or a value. A
+//!   call the client abandons (resets, or disconnects) is recorded as
+//!   CANCELLED.
+//!
+//! It is protocol-neutral (any request; an answer with a `grpc-status`, or
+//! a [`CallOutcome`] set by a door whose answers carry none), so each door
+//! behind the dispatch (`http::DispatchLayer`) wraps its calls in a copy of
+//! it: the gRPC stack, the Connect door and the FHIR door
+//! ([`super::door`]), each of which turns the layer's own answers (a passed
+//! deadline) into its protocol's shape. `rpc.system.name` is `grpc` for
+//! gRPC and grpc-web, `connect_rpc` for Connect and `fhir` for the FHIR
+//! door. Load shedding and admission are the request gate's
+//! ([`super::request_gate`]) and the doors' ([`super::admission`]).
 
 use std::{
     future::Future,
@@ -29,12 +42,17 @@ use opentelemetry::{
     KeyValue,
 };
 use opentelemetry_sdk::propagation::TraceContextPropagator;
-use tokio::sync::{OwnedSemaphorePermit, Semaphore};
+use tokio::time::Sleep;
 use tonic::{body::Body, codegen::Bytes, Code, Status};
 use tower::{Layer, Service};
 use tracing::{field::Empty, Instrument, Span};
 use tracing_opentelemetry::OpenTelemetrySpanExt;
 
+use super::{
+    connections::CallClock,
+    protocol::{call_kind, CallKind},
+    statuses,
+};
 use crate::instruments::{self, CALL_LOG_TARGET, CALL_SPAN_TARGET};
 
 /// Metadata key of the request id, read from the request and echoed back.
@@ -48,11 +66,11 @@ pub const MAX_REQUEST_ID_LEN: usize = 128;
 /// CANCELLED rather than DEADLINE_EXCEEDED).
 const TIMER_MARGIN: Duration = Duration::from_millis(1);
 
-/// Path prefix of the health service, exempt from the call limit.
+/// Path prefix of the health service, logged at debug level only.
 const HEALTH_PATH_PREFIX: &str = "/grpc.health.v1.Health/";
 
 /// Every method the server serves, fully qualified as `rpc.method` wants it.
-const KNOWN_METHODS: [&str; 22] = [
+const KNOWN_METHODS: [&str; 23] = [
     "oxbind.v1.DissociationService/SaturationFromTension",
     "oxbind.v1.DissociationService/TensionFromSaturation",
     "oxbind.v1.DissociationService/SampleCurve",
@@ -64,6 +82,7 @@ const KNOWN_METHODS: [&str; 22] = [
     "oxbind.v1.OxygenTransportService/OxygenContent",
     "oxbind.v1.OxygenTransportService/GasExchange",
     "oxbind.v1.ModelCatalogService/ListModels",
+    "oxbind.v1.ModelCatalogService/GetServerSettings",
     "oxbind.v1.ConsistencyService/CheckBloodGas",
     "oxbind.v1.ConsistencyService/BatchCheckBloodGas",
     "grpc.health.v1.Health/Check",
@@ -86,9 +105,16 @@ const FHIR_PATH_PREFIX: &str = "/fhir/r4/";
 const FHIR_SYSTEM: &str = "fhir";
 
 /// `rpc.method` for a method the server does not know (semantic conventions).
-const OTHER_METHOD: &str = "_OTHER";
+pub(crate) const OTHER_METHOD: &str = "_OTHER";
 
-/// The layer; clone it freely, every clone shares one call limit.
+/// The outcome of a call, set as a response extension by a door whose
+/// answers carry no `grpc-status` (a Connect or FHIR handler behind a
+/// dispatch), so that its calls are logged and counted with their real
+/// status rather than as CANCELLED.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct CallOutcome(pub Code);
+
+/// The layer; clone it freely.
 #[derive(Debug, Clone)]
 pub struct CallLayer {
     shared: Arc<Shared>,
@@ -96,19 +122,15 @@ pub struct CallLayer {
 
 #[derive(Debug)]
 struct Shared {
-    permits: Arc<Semaphore>,
     call_timeout: Duration,
 }
 
 impl CallLayer {
-    /// At most `max_concurrent_calls` calls (health excepted) at once, each
-    /// for at most `call_timeout`.
-    pub fn new(max_concurrent_calls: usize, call_timeout: Duration) -> Self {
+    /// Each call for at most `call_timeout` (or the caller's shorter
+    /// deadline).
+    pub fn new(call_timeout: Duration) -> Self {
         Self {
-            shared: Arc::new(Shared {
-                permits: Arc::new(Semaphore::new(max_concurrent_calls)),
-                call_timeout,
-            }),
+            shared: Arc::new(Shared { call_timeout }),
         }
     }
 }
@@ -186,31 +208,7 @@ where
             parent.span().span_context().trace_id()
         };
 
-        let permit = if is_health {
-            None
-        } else {
-            match self.shared.permits.clone().try_acquire_owned() {
-                Ok(permit) => Some(permit),
-                Err(_) => {
-                    let record = CallRecord {
-                        start,
-                        method,
-                        system,
-                        request_id,
-                        trace_id,
-                        span,
-                        status: Some(Code::ResourceExhausted),
-                        quiet: false,
-                        _permit: None,
-                    };
-                    let status = Status::resource_exhausted(
-                        "the server is at its concurrent call limit; retry with backoff",
-                    );
-                    return Box::pin(std::future::ready(Ok(record.respond(status.into_http()))));
-                }
-            }
-        };
-
+        let streaming = call_kind(path) == CallKind::Streaming;
         let mut record = CallRecord {
             start,
             method,
@@ -220,27 +218,29 @@ where
             span: span.clone(),
             status: None,
             quiet: is_health,
-            _permit: permit,
         };
 
         // Take the service that was driven to readiness; leave a clone.
         let clone = self.inner.clone();
         let mut inner = std::mem::replace(&mut self.inner, clone);
-        let timer = tokio::time::Instant::from_std(start + timeout.saturating_sub(TIMER_MARGIN));
+        let deadline = tokio::time::Instant::from_std(start + timeout.saturating_sub(TIMER_MARGIN));
+        if let (false, Some(clock)) = (streaming, request.extensions().get::<CallClock>()) {
+            clock.must_end_by(deadline);
+        }
         Box::pin(async move {
             let outcome =
-                tokio::time::timeout_at(timer, inner.call(request).instrument(span)).await;
+                tokio::time::timeout_at(deadline, inner.call(request).instrument(span)).await;
             let response = match outcome {
                 Ok(Ok(response)) if start.elapsed() <= timeout => response,
-                Ok(Ok(_)) | Err(_) => {
-                    Status::deadline_exceeded("the call's deadline passed").into_http()
-                }
+                Ok(Ok(_)) | Err(_) => statuses::deadline_passed().into_http(),
                 Ok(Err(error)) => {
                     record.set_status(Code::Internal);
                     return Err(error);
                 }
             };
-            Ok(record.respond(response))
+            // A streaming call is bounded by its idle timeout instead.
+            let body_deadline = (!streaming).then_some(deadline);
+            Ok(record.respond(response, body_deadline))
         })
     }
 }
@@ -256,7 +256,6 @@ struct CallRecord {
     span: Span,
     status: Option<Code>,
     quiet: bool,
-    _permit: Option<OwnedSemaphorePermit>,
 }
 
 impl CallRecord {
@@ -265,8 +264,13 @@ impl CallRecord {
     }
 
     /// Echo the request id, read a trailers-only status, and hand the
-    /// response body the record, so the call is recorded when it ends.
-    fn respond(mut self, response: http::Response<Body>) -> http::Response<Body> {
+    /// response body the record, so the call is recorded when it ends; the
+    /// body ends the call at `deadline`, if given.
+    fn respond(
+        mut self,
+        response: http::Response<Body>,
+        deadline: Option<tokio::time::Instant>,
+    ) -> http::Response<Body> {
         let (mut parts, body) = response.into_parts();
         if let Ok(value) = HeaderValue::from_str(&self.request_id) {
             parts.headers.insert(REQUEST_ID_HEADER, value);
@@ -274,9 +278,15 @@ impl CallRecord {
         if let Some(code) = observe_status(&mut parts.headers) {
             self.status = Some(code);
         }
+        if let Some(CallOutcome(code)) = parts.extensions.get::<CallOutcome>() {
+            self.status = Some(*code);
+        }
         let body = Body::new(CallBody {
             inner: body,
             record: Some(self),
+            deadline: deadline.map(|at| Box::pin(tokio::time::sleep_until(at))),
+            data_sent: false,
+            finished: false,
         });
         http::Response::from_parts(parts, body)
     }
@@ -320,12 +330,16 @@ impl Drop for CallRecord {
 }
 
 pin_project_lite::pin_project! {
-    /// A response body that reads the status from the trailers and records
-    /// the call when the body ends or is dropped.
+    /// A response body that reads the status from the trailers, ends the
+    /// call at its deadline, and records the call when the body ends or is
+    /// dropped.
     struct CallBody {
         #[pin]
         inner: Body,
         record: Option<CallRecord>,
+        deadline: Option<Pin<Box<Sleep>>>,
+        data_sent: bool,
+        finished: bool,
     }
 }
 
@@ -338,8 +352,36 @@ impl HttpBody for CallBody {
         cx: &mut Context<'_>,
     ) -> Poll<Option<Result<Frame<Self::Data>, Self::Error>>> {
         let this = self.project();
-        match ready!(this.inner.poll_frame(cx)) {
+        if *this.finished {
+            return Poll::Ready(None);
+        }
+        let polled = this.inner.poll_frame(cx);
+        if polled.is_pending() {
+            let passed = this
+                .deadline
+                .as_mut()
+                .is_some_and(|deadline| deadline.as_mut().poll(cx).is_ready());
+            if !passed {
+                return Poll::Pending;
+            }
+            // The deadline passed while the answer was still being sent (a
+            // caller that does not read it): end the call here.
+            *this.finished = true;
+            let status = statuses::deadline_passed();
+            if let Some(record) = this.record.as_mut() {
+                record.status = Some(status.code());
+            }
+            return Poll::Ready(Some(if *this.data_sent {
+                Err(status)
+            } else {
+                Ok(Frame::trailers(statuses::as_trailers(&status)))
+            }));
+        }
+        match ready!(polled) {
             Some(Ok(mut frame)) => {
+                if frame.is_data() {
+                    *this.data_sent = true;
+                }
                 if let (Some(trailers), Some(record)) = (frame.trailers_mut(), this.record.as_mut())
                 {
                     if let Some(code) = observe_status(trailers) {
@@ -355,6 +397,7 @@ impl HttpBody for CallBody {
                 Poll::Ready(Some(Err(status)))
             }
             None => {
+                *this.finished = true;
                 this.record.take();
                 Poll::Ready(None)
             }
@@ -362,7 +405,7 @@ impl HttpBody for CallBody {
     }
 
     fn is_end_stream(&self) -> bool {
-        self.inner.is_end_stream()
+        self.finished || self.inner.is_end_stream()
     }
 
     fn size_hint(&self) -> SizeHint {
@@ -546,6 +589,70 @@ impl Extractor for HeaderExtractor<'_> {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use std::sync::Mutex;
+    use tower::ServiceExt;
+
+    /// Log lines written while a test runs.
+    #[derive(Clone, Default)]
+    struct Captured(Arc<Mutex<Vec<u8>>>);
+
+    impl std::io::Write for Captured {
+        fn write(&mut self, bytes: &[u8]) -> std::io::Result<usize> {
+            self.0.lock().unwrap().extend_from_slice(bytes);
+            Ok(bytes.len())
+        }
+        fn flush(&mut self) -> std::io::Result<()> {
+            Ok(())
+        }
+    }
+
+    /// The access line of one call answered by `answer`, as logged.
+    async fn logged_status(answer: http::Response<Body>) -> String {
+        let captured = Captured::default();
+        let writer = captured.clone();
+        let subscriber = tracing_subscriber::fmt()
+            .with_writer(move || writer.clone())
+            .with_ansi(false)
+            .with_max_level(tracing::Level::INFO)
+            .finish();
+        let _default = tracing::subscriber::set_default(subscriber);
+        let answer = Arc::new(Mutex::new(Some(answer)));
+        let inner = tower::service_fn(move |_request: http::Request<Body>| {
+            let answer = answer.lock().unwrap().take().expect("one call");
+            std::future::ready(Ok::<_, std::convert::Infallible>(answer))
+        });
+        let mut service = CallLayer::new(Duration::from_secs(5)).layer(inner);
+        let request = http::Request::builder()
+            .uri("/oxbind.v1.DissociationService/SaturationFromTension")
+            .body(Body::empty())
+            .unwrap();
+        let response = service.ready().await.unwrap().call(request).await.unwrap();
+        let _ = http_body_util::BodyExt::collect(response.into_body()).await;
+        let text = String::from_utf8(captured.0.lock().unwrap().clone()).unwrap();
+        text.lines()
+            .find(|l| l.contains("call"))
+            .and_then(|l| l.split("status=").nth(1))
+            .and_then(|rest| rest.split_whitespace().next())
+            .unwrap_or_default()
+            .to_owned()
+    }
+
+    #[tokio::test]
+    async fn a_door_without_grpc_status_sets_the_outcome_it_is_logged_with() {
+        let mut answer = http::Response::new(Body::new(http_body_util::Full::new(
+            Bytes::from_static(b"{}"),
+        )));
+        answer
+            .extensions_mut()
+            .insert(CallOutcome(Code::InvalidArgument));
+        assert_eq!(logged_status(answer).await, "\"INVALID_ARGUMENT\"");
+        // Without it, an answer that never says its status is an abandoned
+        // call.
+        let bare = http::Response::new(Body::new(http_body_util::Full::new(Bytes::from_static(
+            b"{}",
+        ))));
+        assert_eq!(logged_status(bare).await, "\"CANCELLED\"");
+    }
 
     fn headers(pairs: &[(&'static str, &'static str)]) -> HeaderMap {
         let mut map = HeaderMap::new();

@@ -6,11 +6,15 @@
 //!
 //! - [`ConnectDoor`]: the edge. It hands the per-call layer the caller's
 //!   `connect-timeout-ms` (as the `grpc-timeout` that layer reads) and turns
-//!   every status the call ends with into the Connect error shape
-//!   ([`error`], the one place that does).
-//! - [`procedures`]: inside the per-call layer, the table of procedures and
-//!   the service that reads a request ([`request`]), decodes it ([`Codec`]),
-//!   calls the RPC's [`crate::api`] function and encodes the answer.
+//!   every status the call ends with (the procedures' refusals, and the
+//!   layers' own: load shed, deadline passed, a panic) into the Connect
+//!   error shape ([`error`], the one place that does).
+//! - [`procedures`]: inside the per-call layer and panic catching, the table
+//!   of procedures and the service that reads a request ([`request`]) and
+//!   admits it as a gRPC call is admitted (call slots, the connection's
+//!   fair share, request bytes, items), decodes it ([`Codec`]), calls the
+//!   RPC's [`crate::api`] function and encodes the answer, on the compute
+//!   pool for a call of many items.
 //!
 //! A JSON call and a gRPC call with the same input run the same function,
 //! so they give the same numbers.
@@ -30,7 +34,9 @@ use std::{
 
 use http::{header::HeaderName, HeaderValue, Request, Response};
 use tonic::{body::Body, Code, Status};
-use tower::{Layer, Service};
+use tower::Service;
+
+use crate::layers::door::{DoorLayers, DoorService};
 
 pub use codec::Codec;
 pub use procedures::{Limits, Procedures};
@@ -45,15 +51,13 @@ const GRPC_TIMEOUT: HeaderName = HeaderName::from_static("grpc-timeout");
 /// Largest `grpc-timeout` amount (8 digits; gRPC over HTTP/2 protocol).
 const GRPC_TIMEOUT_MAX_AMOUNT: u64 = 99_999_999;
 
-/// The Connect door around `call_layer`'s per-call service: the procedures
-/// with the same request id, span, deadline, load shedding, metrics and log
-/// line as every gRPC call.
-pub fn door<L>(call_layer: &L, limits: Limits) -> ConnectDoor<L::Service>
-where
-    L: Layer<Procedures>,
-{
+/// The Connect door: the procedures behind the layers' copy of the
+/// per-call layer and panic catching ([`DoorLayers::wrap`]), with the same
+/// request id, span, deadline, metrics and log line as every gRPC call, and
+/// admitted by the same limits ([`Procedures`]).
+pub fn door(layers: &DoorLayers, limits: Limits) -> ConnectDoor<DoorService> {
     ConnectDoor {
-        inner: call_layer.layer(Procedures::new(limits)),
+        inner: layers.wrap(Procedures::new(limits, layers.clone())),
     }
 }
 

@@ -7,13 +7,16 @@ use std::{convert::Infallible, future::Future, pin::Pin, task::Context, task::Po
 use http::{header, HeaderValue, Request, Response};
 use prost::Message;
 use serde::{de::DeserializeOwned, Serialize};
-use tonic::{body::Body, codegen::Bytes, Status};
+use tonic::{body::Body, codegen::Bytes, Code, Status};
 use tower::Service;
 
 use super::{request, Codec};
-use crate::api::{
-    catalog, dissociation, server_settings, server_settings::ReportedSettings,
-    status::InvalidRequest, transport,
+use crate::{
+    api::{
+        catalog, dissociation, server_settings, server_settings::ReportedSettings,
+        status::InvalidRequest, transport,
+    },
+    layers::{call::CallOutcome, door::DoorLayers, work},
 };
 
 use crate::api::consistency;
@@ -149,18 +152,25 @@ fn procedure(path: &str) -> Option<Procedure> {
 
 /// The service that answers Connect calls. It speaks to the per-call layer
 /// around it in that layer's terms: a refusal is a gRPC trailers-only
-/// status, and a success carries `grpc-status: 0` in its headers, so the
-/// call is logged, measured and counted exactly as a gRPC call is;
-/// [`super::ConnectDoor`] turns both into the Connect shape.
+/// status, and every answer carries its [`CallOutcome`], so the call is
+/// logged, measured and counted exactly as a gRPC call is;
+/// [`super::ConnectDoor`] turns a refusal into the Connect shape.
+///
+/// Each call is admitted as a gRPC call is ([`DoorLayers`]): its body read
+/// under the request-byte limit and the arrival timeout, its items counted
+/// from the message before it is decoded, a call slot and its connection's
+/// share taken; a call of many items is decoded, computed and encoded on
+/// the compute pool.
 #[derive(Debug, Clone)]
 pub struct Procedures {
     limits: Limits,
+    layers: DoorLayers,
 }
 
 impl Procedures {
-    /// Answer every v1 procedure within `limits`.
-    pub fn new(limits: Limits) -> Self {
-        Self { limits }
+    /// Answer every v1 procedure within `limits`, admitted by `layers`.
+    pub fn new(limits: Limits, layers: DoorLayers) -> Self {
+        Self { limits, layers }
     }
 }
 
@@ -174,41 +184,65 @@ impl Service<Request<Body>> for Procedures {
     }
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
-        let limits = self.limits.clone();
+        let (limits, layers) = (self.limits.clone(), self.layers.clone());
         Box::pin(async move {
-            Ok(match answer(request, &limits).await {
+            Ok(match answer(request, limits, &layers).await {
                 Ok(response) => response,
-                Err(status) => status.into_http(),
+                Err(status) => refused(&status),
             })
         })
     }
 }
 
-/// Find the procedure, read the request, compute, write the answer.
-async fn answer(request: Request<Body>, limits: &Limits) -> Result<Response<Body>, Status> {
+/// A refusal as the per-call layer reads it.
+fn refused(status: &Status) -> Response<Body> {
+    let mut response = status.clone().into_http();
+    response.extensions_mut().insert(CallOutcome(status.code()));
+    response
+}
+
+/// Find the procedure, read the request and admit it, compute, write the
+/// answer.
+async fn answer(
+    request: Request<Body>,
+    limits: Limits,
+    layers: &DoorLayers,
+) -> Result<Response<Body>, Status> {
     let Some(procedure) = procedure(request.uri().path()) else {
         return Err(Status::unimplemented(
             "no Connect procedure at this path; the procedures are the v1 RPCs, /oxbind.v1.<Service>/<Method>",
         ));
     };
-    let read = request::read(request, limits.max_request_bytes).await?;
-    let call = Call {
-        codec: read.codec,
-        message: &read.message,
-        limits,
+    let (parts, body) = request.into_parts();
+    let read = request::read(&parts, body, limits.max_request_bytes, layers).await?;
+    let path = parts.uri.path();
+    let items = match read.codec {
+        Codec::Json => work::items_of_json(path, &read.message),
+        Codec::Proto => work::items_of(path, &read.message),
     };
-    let body = read.coding.compress(procedure(&call)?)?;
+    let held = layers.admit(&parts.extensions, items, read.reserved)?;
+    let (codec, message) = (read.codec, read.message);
+    let encoded = layers
+        .compute(items, move || {
+            procedure(&Call {
+                codec,
+                message: &message,
+                limits: &limits,
+            })
+        })
+        .await??;
+    let body = read.coding.compress(encoded)?;
     let mut response = Response::new(Body::new(http_body_util::Full::new(body)));
     let headers = response.headers_mut();
     headers.insert(
         header::CONTENT_TYPE,
-        HeaderValue::from_static(read.codec.content_type()),
+        HeaderValue::from_static(codec.content_type()),
     );
     if let Some(coding) = read.coding.header_value() {
         headers.insert(header::CONTENT_ENCODING, HeaderValue::from_static(coding));
     }
-    headers.insert(super::GRPC_STATUS, HeaderValue::from_static("0"));
-    Ok(response)
+    response.extensions_mut().insert(CallOutcome(Code::Ok));
+    Ok(DoorLayers::holding(response, held))
 }
 
 #[cfg(test)]

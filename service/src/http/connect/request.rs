@@ -8,11 +8,12 @@ use base64::{
     engine::{DecodePaddingMode, GeneralPurpose, GeneralPurposeConfig},
     Engine as _,
 };
-use http::{header, HeaderMap, Method, Request};
-use http_body_util::{BodyExt, Limited};
+use http::{header, request::Parts, HeaderMap, Method};
+use tokio::sync::OwnedSemaphorePermit;
 use tonic::{body::Body, codegen::Bytes, Status};
 
 use super::{compression::Coding, Codec};
+use crate::layers::door::{DoorLayers, NotRead, ReadBody};
 
 /// The request header naming the protocol version.
 pub const PROTOCOL_VERSION_HEADER: &str = "connect-protocol-version";
@@ -53,6 +54,8 @@ pub struct UnaryRequest {
     pub message: Bytes,
     /// How the request was compressed (and so how the answer is).
     pub coding: Coding,
+    /// The request bytes reserved for the message, until the answer ends.
+    pub reserved: Option<OwnedSemaphorePermit>,
 }
 
 /// The `encoding` of a GET form in `query`: `None` when the query has no
@@ -89,14 +92,24 @@ pub fn timeout_ms(headers: &HeaderMap) -> Result<Option<u64>, Status> {
         })
 }
 
-/// Read a unary request (POST or GET) whose message may have at most
-/// `max_bytes` bytes.
-pub async fn read(request: Request<Body>, max_bytes: usize) -> Result<UnaryRequest, Status> {
-    timeout_ms(request.headers())?;
-    if request.method() == Method::GET {
-        return read_get(request.uri().query(), max_bytes);
+/// Read a unary request (POST or GET), whose head is `parts` and body
+/// `body`, whose message may have at most `max_bytes` bytes. The body is
+/// read under the server's admission rules ([`DoorLayers::read_body`]): the
+/// request bytes it holds (the message, decompressed) are reserved until
+/// the answer ends.
+pub async fn read(
+    parts: &Parts,
+    body: Body,
+    max_bytes: usize,
+    layers: &DoorLayers,
+) -> Result<UnaryRequest, Status> {
+    timeout_ms(&parts.headers)?;
+    if parts.method == Method::GET {
+        let mut read = read_get(parts.uri.query(), max_bytes)?;
+        layers.reserve(&mut read.reserved, read.message.len())?;
+        return Ok(read);
     }
-    let headers = request.headers();
+    let headers = &parts.headers;
     let codec = headers
         .get(header::CONTENT_TYPE)
         .and_then(|v| v.to_str().ok())
@@ -117,22 +130,24 @@ pub async fn read(request: Request<Body>, max_bytes: usize) -> Result<UnaryReque
             .and_then(|v| v.to_str().ok())
             .unwrap_or_default(),
     )?;
-    let body = Limited::new(request.into_body(), max_bytes)
-        .collect()
+    let ReadBody {
+        bytes,
+        mut reserved,
+    } = layers
+        .read_body(body, max_bytes)
         .await
-        .map_err(|error| {
-            if error.is::<http_body_util::LengthLimitError>() {
-                too_large(max_bytes)
-            } else {
-                Status::cancelled("the request body was not received whole")
-            }
-        })?
-        .to_bytes();
-    let message = coding.decompress(body, max_bytes)?;
+        .map_err(|not_read| match not_read {
+            NotRead::TooLarge => too_large(max_bytes),
+            NotRead::Refused(status) => status,
+        })?;
+    let sent = bytes.len();
+    let message = coding.decompress(bytes, max_bytes)?;
+    layers.reserve(&mut reserved, message.len().saturating_sub(sent))?;
     Ok(UnaryRequest {
         codec,
         message,
         coding,
+        reserved,
     })
 }
 
@@ -193,6 +208,7 @@ fn read_get(query: Option<&str>, max_bytes: usize) -> Result<UnaryRequest, Statu
         codec,
         message,
         coding,
+        reserved: None,
     })
 }
 

@@ -1,15 +1,18 @@
 //! The FHIR door on the main listener: the dispatch
 //! ([`crate::http::DispatchLayer`]) sends every request under
 //! [`super::BASE_PATH`] to [`FhirDoor`], which runs it through its own copy
-//! of the per-call layer (request id, span, deadline, load shedding, metrics
-//! and the call's log line, sharing the server's call limit) to
-//! [`super::handle`]. TLS, mutual TLS and the connection limits are the
-//! listener's, so they are the same as for gRPC.
+//! of the per-call layer (request id, span, deadline, metrics and the
+//! call's log line) and panic catching ([`DoorLayers::wrap`]) to
+//! [`Endpoint`]: the body is read and the call admitted by the server's
+//! admission (call slots, the connection's fair share, request bytes, the
+//! arrival timeout; [`DoorLayers`]), then answered by [`super::handle`].
+//! TLS, mutual TLS and the connection hygiene are the listener's, so they
+//! are the same as for gRPC.
 //!
-//! The per-call layer reads a `grpc-status`: the door sets one from the
-//! HTTP status for it and removes it at the edge, and turns the layer's own
-//! answers (load shed, deadline passed) into OperationOutcomes. The request
-//! body is read up to the server's message size limit.
+//! Each answer carries its [`CallOutcome`] (the gRPC code for its HTTP
+//! status) for the per-call layer; the edge turns the layers' own answers
+//! (deadline passed, a panic) into OperationOutcomes. The request body is
+//! read up to the server's message size limit.
 
 use std::{
     convert::Infallible,
@@ -18,18 +21,19 @@ use std::{
     task::{Context, Poll},
 };
 
-use http::{header, HeaderName, HeaderValue, Request, Response, StatusCode};
-use http_body_util::{BodyExt, Full, Limited};
+use http::{header, HeaderName, Request, Response, StatusCode};
+use http_body_util::Full;
 use tonic::{body::Body, codegen::Bytes, Code, Status};
-use tower::{Layer, Service};
+use tower::Service;
 
 use super::{
     outcome::{error, issue_type, Refusal},
     FhirRequest, FhirResponse, BASE_PATH, RESPONSE_CONTENT_TYPE,
 };
-
-/// The gRPC status header the per-call layer reads.
-const GRPC_STATUS: HeaderName = HeaderName::from_static("grpc-status");
+use crate::layers::{
+    call::CallOutcome,
+    door::{DoorLayers, DoorService, NotRead, ReadBody},
+};
 
 /// The gRPC timeout header the per-call layer reads.
 const GRPC_TIMEOUT: HeaderName = HeaderName::from_static("grpc-timeout");
@@ -42,15 +46,17 @@ pub fn is_fhir_path(path: &str) -> bool {
             .is_some_and(|rest| rest.starts_with('/'))
 }
 
-/// The FHIR door around `call_layer`'s per-call service, reading bodies of
-/// at most `max_request_bytes`; the dispatch ([`crate::http::DispatchLayer`])
-/// sends it every request under [`BASE_PATH`].
-pub fn door<L>(call_layer: &L, max_request_bytes: usize) -> FhirDoor<L::Service>
-where
-    L: Layer<Endpoint>,
-{
+/// The FHIR door behind the layers' copy of the per-call layer and panic
+/// catching ([`DoorLayers::wrap`]), reading bodies of at most
+/// `max_request_bytes` under the server's admission rules; the dispatch
+/// ([`crate::http::DispatchLayer`]) sends it every request under
+/// [`BASE_PATH`].
+pub fn door(layers: &DoorLayers, max_request_bytes: usize) -> FhirDoor<DoorService> {
     FhirDoor {
-        inner: call_layer.layer(Endpoint { max_request_bytes }),
+        inner: layers.wrap(Endpoint {
+            max_request_bytes,
+            layers: layers.clone(),
+        }),
     }
 }
 
@@ -89,15 +95,14 @@ where
     }
 }
 
-/// Remove the door's `grpc-status`, or turn an answer of the per-call layer
-/// (a shed call, a passed deadline) into an OperationOutcome.
-fn at_the_edge(mut response: Response<Body>) -> Response<Body> {
+/// Pass the door's own answers on; turn an answer of the per-call layer or
+/// of panic catching (a passed deadline, a panic) into an OperationOutcome.
+fn at_the_edge(response: Response<Body>) -> Response<Body> {
     let ours = response
         .headers()
         .get(header::CONTENT_TYPE)
         .is_some_and(|v| v == RESPONSE_CONTENT_TYPE);
     if ours {
-        response.headers_mut().remove(GRPC_STATUS);
         return response;
     }
     let code = Status::from_header_map(response.headers()).map_or(Code::Unknown, |s| s.code());
@@ -105,7 +110,7 @@ fn at_the_edge(mut response: Response<Body>) -> Response<Body> {
         Code::ResourceExhausted => (
             StatusCode::SERVICE_UNAVAILABLE,
             issue_type::TRANSIENT,
-            "the server is at its concurrent call limit; retry with backoff",
+            "the server is at its limits; retry with backoff",
         ),
         Code::DeadlineExceeded => (
             StatusCode::GATEWAY_TIMEOUT,
@@ -147,10 +152,12 @@ fn code_for(status: StatusCode) -> Code {
     }
 }
 
-/// Inside the per-call layer: read the body, answer with [`super::handle`].
+/// Inside the per-call layer: read the body and admit the call, as a gRPC
+/// call is admitted (one item of work), then answer with [`super::handle`].
 #[derive(Debug, Clone)]
 pub struct Endpoint {
     max_request_bytes: usize,
+    layers: DoorLayers,
 }
 
 impl Service<Request<Body>> for Endpoint {
@@ -164,37 +171,71 @@ impl Service<Request<Body>> for Endpoint {
 
     fn call(&mut self, request: Request<Body>) -> Self::Future {
         let limit = self.max_request_bytes;
+        let layers = self.layers.clone();
         Box::pin(async move {
             let (parts, body) = request.into_parts();
-            let answer = match Limited::new(body, limit).collect().await {
-                Ok(collected) => {
-                    let body = collected.to_bytes();
-                    super::handle(&FhirRequest {
-                        method: &parts.method,
-                        path: parts.uri.path(),
-                        query: parts.uri.query(),
-                        headers: &parts.headers,
-                        body: &body,
-                    })
-                }
-                Err(_) => FhirResponse::refused(&Refusal::with(
-                    StatusCode::PAYLOAD_TOO_LARGE,
-                    vec![error(
-                        issue_type::TOO_COSTLY,
-                        format!(
-                            "the body is larger than the server's limit of {limit} bytes (or \
-could not be read)"
-                        ),
-                        "Parameters".to_owned(),
-                    )],
-                )),
+            let admitted = match layers.read_body(body, limit).await {
+                Ok(ReadBody { bytes, reserved }) => layers
+                    .admit(&parts.extensions, ITEMS_PER_CALL, reserved)
+                    .map(|held| (bytes, held))
+                    .map_err(|status| refused_by_the_layers(&status)),
+                Err(NotRead::TooLarge) => Err(too_large(limit)),
+                Err(NotRead::Refused(status)) => Err(refused_by_the_layers(&status)),
             };
+            let (bytes, held) = match admitted {
+                Ok(admitted) => admitted,
+                Err((answer, code)) => return Ok(answered(answer, code)),
+            };
+            let answer = super::handle(&FhirRequest {
+                method: &parts.method,
+                path: parts.uri.path(),
+                query: parts.uri.query(),
+                headers: &parts.headers,
+                body: &bytes,
+            });
             let code = code_for(answer.status);
-            let mut response = into_http(answer);
-            response
-                .headers_mut()
-                .insert(GRPC_STATUS, HeaderValue::from(code as i32));
-            Ok(response)
+            Ok(DoorLayers::holding(answered(answer, code), held))
         })
     }
+}
+
+/// The work of one FHIR call, in items: one panel, or one conformance read.
+const ITEMS_PER_CALL: u64 = 1;
+
+/// `answer` as the per-call layer reads it: logged and counted as `code`.
+fn answered(answer: FhirResponse, code: Code) -> Response<Body> {
+    let mut response = into_http(answer);
+    response.extensions_mut().insert(CallOutcome(code));
+    response
+}
+
+/// A body over the server's message size limit.
+fn too_large(limit: usize) -> (FhirResponse, Code) {
+    let refusal = Refusal::with(
+        StatusCode::PAYLOAD_TOO_LARGE,
+        vec![error(
+            issue_type::TOO_COSTLY,
+            format!("the body is larger than the server's limit of {limit} bytes"),
+            "Parameters".to_owned(),
+        )],
+    );
+    (FhirResponse::refused(&refusal), Code::ResourceExhausted)
+}
+
+/// A refusal of the layers' admission as an OperationOutcome: the server
+/// is full (503, transient: retry with backoff), the body did not arrive in
+/// time (408), or the client went away (nobody reads that answer). The
+/// message names the limit, never a value.
+fn refused_by_the_layers(status: &Status) -> (FhirResponse, Code) {
+    let (http, kind) = match status.code() {
+        Code::ResourceExhausted => (StatusCode::SERVICE_UNAVAILABLE, issue_type::TRANSIENT),
+        Code::DeadlineExceeded => (StatusCode::REQUEST_TIMEOUT, issue_type::TIMEOUT),
+        Code::Cancelled => (StatusCode::BAD_REQUEST, issue_type::STRUCTURE),
+        _ => (StatusCode::INTERNAL_SERVER_ERROR, issue_type::EXCEPTION),
+    };
+    let refusal = Refusal::with(
+        http,
+        vec![error(kind, status.message(), "Parameters".to_owned())],
+    );
+    (FhirResponse::refused(&refusal), status.code())
 }
