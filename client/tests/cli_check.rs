@@ -114,35 +114,67 @@ fn a_discordant_sample_is_a_success_with_its_causes_and_json_carries_the_finding
 #[test]
 fn figures_and_the_rule_come_from_flags_and_refusals_name_the_flags() {
     let server = Server::start();
+    // The figures are spelt as on every other command: --u names an input by
+    // its own flag, --uncertainty a profile set.
     let json = json_of(
         server
             .oxbind()
             .args(["--json", "check"])
             .args(AIR)
             .args(["--threshold-rule", "uncertainty-based"])
-            .args([
-                "--figure",
-                "spo2=2%",
-                "--figure",
-                "po2=profile:clia-2024-po2",
-            ])
+            .args(["--u", "spo2=2%", "--u", "po2=clia-2024-po2"])
+            .args(["--u", "fio2=2%@rect"])
+            .args(["--uncertainty", "analytical-goal-harding-fraser-1987"])
             .args(["--no-built-in-figures"]),
     );
     let components = json["findings"][4]["uncertainty"]["components"]
         .as_array()
         .unwrap();
-    let spo2 = components.iter().find(|c| c["name"] == "spo2").unwrap();
+    let spo2 = components
+        .iter()
+        .find(|c| c["name"] == "sample.spo2_fraction")
+        .unwrap();
     assert_eq!(spo2["source"], "stated in the request");
+    assert_eq!(spo2["origin"], "FIGURE_ORIGIN_STATED");
     assert_eq!(spo2["inputStandardUncertainty"]["value"], 0.02);
+    let alveolar = json["findings"][3]["uncertainty"]["components"]
+        .as_array()
+        .unwrap();
+    let named = |name: &str| {
+        alveolar
+            .iter()
+            .find(|c| c["name"] == name)
+            .unwrap_or_else(|| panic!("{name} in {alveolar:?}"))
+    };
+    assert_eq!(named("sample.po2")["profileId"], "clia-2024-po2");
+    assert_eq!(
+        named("sample.pco2")["profileId"],
+        "analytical-goal-harding-fraser-1987-pco2"
+    );
+    // ±2 percentage points, rectangular: u = 0.02/√3 (JCGM 100:2008 4.3.7).
+    let u = named("sample.fio2")["inputStandardUncertainty"]["value"]
+        .as_f64()
+        .unwrap();
+    assert!((u - 0.02 / 3f64.sqrt()).abs() < 1e-12, "{u}");
     let (code, stderr) = failure_of(server.oxbind().arg("check").args(AIR).args([
-        "--figure",
-        "ph=profile:clia-2024-po2",
-        "--coverage-probability",
-        "2",
+        "--u",
+        "ph=clia-2024-po2",
+        "--coverage",
+        "0.999",
     ]));
     assert_eq!(code, Some(3), "{stderr}");
-    assert!(stderr.contains("--figure 1"), "{stderr}");
-    assert!(stderr.contains("--coverage-probability"), "{stderr}");
+    assert!(stderr.contains("--u ph=clia-2024-po2"), "{stderr}");
+    assert!(stderr.contains("--coverage"), "{stderr}");
+    // A figure's unit is never guessed.
+    let (code, stderr) = failure_of(
+        server
+            .oxbind()
+            .arg("check")
+            .args(AIR)
+            .args(["--u", "po2=3"]),
+    );
+    assert_eq!(code, Some(2), "{stderr}");
+    assert!(stderr.contains("never guessed"), "{stderr}");
     let (code, stderr) = failure_of(
         server
             .oxbind()

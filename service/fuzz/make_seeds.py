@@ -202,7 +202,18 @@ SEEDS = {
         ),
         "air-uncertainty-rule-si": b"\x00"
         + nested(1, quantity(1, 16.1, "kPa") + quantity(2, 4.1, "kPa") + double(3, 7.47) + enum(6, 1) + double(13, 0.91) + quantity(14, 0.21, "1"))
-        + nested(2, nested(1, enum(1, 5) + quantity(2, 2.0, "%")) + nested(1, enum(1, 1) + string(4, "clia-2024-po2")) + double(3, 0.99))
+        # uncertainty = field 2 (ConsistencyUncertainty): inputs = 4
+        # (InputUncertainty: field 1, standard_uncertainty 2, bound 3,
+        # profile_id 4), profile_sets = 5, no_built_in_figures = 2,
+        # coverage_probability = 3
+        + nested(
+            2,
+            nested(4, string(1, "sample.spo2_fraction") + nested(2, quantity(1, 2.0, "%")))
+            + nested(4, string(1, "sample.po2") + string(4, "clia-2024-po2"))
+            + nested(4, string(1, "sample.fio2") + nested(3, nested(1, quantity(1, 2.0, "%")) + enum(2, 3)))
+            + string(5, "analytical-goal-harding-fraser-1987")
+            + double(3, 0.99),
+        )
         + enum(3, 2)
         + enum(5, 2),
         "patient-temperature-fractional": b"\x00"
@@ -222,6 +233,17 @@ SEEDS = {
         )
         + enum(4, 7),
         "bad": b"\x00" + nested(1, quantity(1, math.nan, "mmHg") + double(3, 9.2) + quantity(16, 24.0, "mmol/L") + enum(5, 2)),
+        "bad-figures": b"\x00"
+        + nested(1, quantity(1, 80.0, "mm[Hg]") + double(3, 7.4) + double(13, 0.95))
+        + nested(
+            2,
+            nested(4, string(1, "sample.temperature") + nested(2, quantity(1, 0.1, "Cel")))
+            + nested(4, string(1, "sample.spo2_fraction") + nested(3, nested(1, quantity(1, 0.02, "1")) + enum(2, 2) + double(4, 1e-300)))
+            + nested(4, string(1, "sample.results_at_37_cel.ph") + string(4, "clia-2024-po2"))
+            + string(5, "no-such-set")
+            + enum(2, 1)
+            + double(3, math.inf),
+        ),
         # selector 1: BatchCheckBloodGasRequest, requests = field 1
         "batch": b"\x01"
         + nested(1, nested(1, quantity(1, 38.0, "mm[Hg]") + double(3, 7.36) + enum(6, 1) + double(7, 0.71) + double(13, 0.96)))

@@ -8,11 +8,12 @@
 
 use oxbind_client::{
     v1::{
-        BicarbonateSource, BloodGasResults, BloodGasSampleType, CheckBloodGasRequest,
-        CheckBloodGasResponse, ConsistencyCheck, ConsistencyFigure, ConsistencyFinding,
-        ConsistencyInput, ConsistencyThresholdRule, ConsistencyUncertainty, ConsistencyVerdict,
-        FindingDirection, ReportedTemperature, ResultsAt37Cel, SaturationKind, ThresholdBasis,
-        UnitSystem,
+        input_uncertainty::Figure, BicarbonateSource, BloodGasResults, BloodGasSampleType,
+        BoundShape, CheckBloodGasRequest, CheckBloodGasResponse, ConsistencyCheck,
+        ConsistencyFinding, ConsistencyThresholdRule, ConsistencyUncertainty, ConsistencyVerdict,
+        FigureOrigin, FindingDirection, InputUncertainty, NotConsideredReason, ProfileVerification,
+        ReportedTemperature, ResultsAt37Cel, SaturationKind, ThresholdBasis, UncertaintyAmount,
+        UncertaintyBound, UnitSystem,
     },
     Code, OxbindClient,
 };
@@ -153,9 +154,30 @@ async fn a_normal_arterial_sample_has_no_discordant_finding_and_every_finding_in
     assert!(alveolar
         .threshold_source
         .starts_with("uncertainty-based rule"));
-    let not_considered = &alveolar.uncertainty.as_ref().unwrap().not_considered;
-    assert!(not_considered.contains(&(ConsistencyInput::Fio2 as i32)));
-    assert!(not_considered.contains(&(ConsistencyInput::BarometricPressure as i32)));
+    let not_considered = &alveolar.uncertainty.as_ref().unwrap().inputs_not_considered;
+    for field in ["sample.fio2", "sample.barometric_pressure"] {
+        let n = not_considered
+            .iter()
+            .find(|n| n.field == field)
+            .unwrap_or_else(|| panic!("{field} not in {not_considered:?}"));
+        assert_eq!(n.reason, NotConsideredReason::NoFigure as i32);
+    }
+    // A built-in figure names its profile, as a budget line of the other
+    // RPCs does.
+    let po2 = alveolar
+        .uncertainty
+        .as_ref()
+        .unwrap()
+        .components
+        .iter()
+        .find(|c| c.name == "sample.po2")
+        .expect("PO2 component");
+    assert_eq!(po2.origin, FigureOrigin::Profile as i32);
+    assert_eq!(po2.profile_id, "clia-2024-po2");
+    assert_eq!(
+        po2.profile_verification,
+        ProfileVerification::Unverified as i32
+    );
     server.stop().await;
 }
 
@@ -280,32 +302,56 @@ async fn bad_input_is_refused_naming_each_field() {
     }
     // A message names fields and limits, never the values sent.
     assert!(!status.to_string().contains("8.9"));
+    // Figures are read as every RPC reads them (InputUncertainty), with the
+    // same refusals.
+    let figure = |field: &str, figure: Figure| InputUncertainty {
+        field: field.to_owned(),
+        figure: Some(figure),
+    };
+    let absolute = |value: f64, unit: &str| UncertaintyAmount {
+        absolute: q(value, unit),
+        relative: None,
+    };
     let figures = CheckBloodGasRequest {
         sample: Some(normal_arterial()),
         uncertainty: Some(ConsistencyUncertainty {
-            figures: vec![
-                ConsistencyFigure {
-                    input: ConsistencyInput::Ph as i32,
-                    figure: Some(oxbind_client::v1::consistency_figure::Figure::ProfileId(
-                        "clia-2024-po2".to_owned(),
-                    )),
-                },
-                ConsistencyFigure {
-                    input: ConsistencyInput::Po2 as i32,
-                    figure: Some(oxbind_client::v1::consistency_figure::Figure::ProfileId(
-                        "no-such-profile".to_owned(),
-                    )),
-                },
-                ConsistencyFigure {
-                    input: ConsistencyInput::Spo2 as i32,
-                    figure: Some(
-                        oxbind_client::v1::consistency_figure::Figure::RelativeStandardUncertainty(
-                            2.0,
-                        ),
-                    ),
-                },
+            inputs: vec![
+                figure("sample.ph", Figure::ProfileId("clia-2024-po2".to_owned())),
+                figure(
+                    "sample.po2",
+                    Figure::ProfileId("no-such-profile".to_owned()),
+                ),
+                figure(
+                    "sample.spo2_fraction",
+                    Figure::StandardUncertainty(UncertaintyAmount {
+                        absolute: None,
+                        relative: q(200.0, "%"),
+                    }),
+                ),
+                figure(
+                    "sample.temperature",
+                    Figure::StandardUncertainty(absolute(0.1, "Cel")),
+                ),
+                figure(
+                    "sample.results_at_37_cel.po2",
+                    Figure::StandardUncertainty(absolute(3.0, "mm[Hg]")),
+                ),
+                figure(
+                    "sample.pco2",
+                    Figure::StandardUncertainty(absolute(3.0, "mmHg")),
+                ),
+                figure(
+                    "sample.fio2",
+                    Figure::Bound(UncertaintyBound {
+                        half_width: Some(absolute(0.02, "1")),
+                        shape: BoundShape::CoverageFactor as i32,
+                        coverage_factor: 1e-300,
+                        ..Default::default()
+                    }),
+                ),
             ],
-            coverage_probability: Some(0.9999),
+            profile_sets: vec!["no-such-set".to_owned()],
+            coverage_probability: 0.999,
             ..Default::default()
         }),
         ..Default::default()
@@ -315,16 +361,36 @@ async fn bad_input_is_refused_naming_each_field() {
         refused(&status),
         [
             (
-                "uncertainty.figures[0].profile_id".to_owned(),
-                "INPUTS_INCONSISTENT".to_owned()
+                "uncertainty.inputs[0].profile_id".to_owned(),
+                "UNCERTAINTY_FIGURE_NOT_USABLE".to_owned()
             ),
             (
-                "uncertainty.figures[1].profile_id".to_owned(),
-                "UNKNOWN_PROFILE".to_owned()
+                "uncertainty.inputs[1].profile_id".to_owned(),
+                "UNCERTAINTY_FIGURE_NOT_USABLE".to_owned()
             ),
             (
-                "uncertainty.figures[2].relative_standard_uncertainty".to_owned(),
-                "VALUE_OUT_OF_RANGE".to_owned()
+                "uncertainty.inputs[2].standard_uncertainty.relative".to_owned(),
+                "UNCERTAINTY_OUT_OF_RANGE".to_owned()
+            ),
+            (
+                "uncertainty.inputs[3].field".to_owned(),
+                "UNCERTAINTY_FIELD_UNKNOWN".to_owned()
+            ),
+            (
+                "uncertainty.inputs[4].field".to_owned(),
+                "UNCERTAINTY_FIGURE_NOT_USABLE".to_owned()
+            ),
+            (
+                "uncertainty.inputs[5].standard_uncertainty.absolute.unit".to_owned(),
+                "UNIT_NOT_ACCEPTED".to_owned()
+            ),
+            (
+                "uncertainty.inputs[6].bound.half_width.absolute".to_owned(),
+                "UNCERTAINTY_OUT_OF_RANGE".to_owned()
+            ),
+            (
+                "uncertainty.profile_sets[0]".to_owned(),
+                "UNCERTAINTY_FIGURE_NOT_USABLE".to_owned()
             ),
             (
                 "uncertainty.coverage_probability".to_owned(),
@@ -380,16 +446,12 @@ async fn the_uncertainty_rule_can_be_asked_for_and_states_its_figures() {
             sample: Some(normal_arterial()),
             threshold_rule: ConsistencyThresholdRule::UncertaintyBased as i32,
             uncertainty: Some(ConsistencyUncertainty {
-                figures: vec![ConsistencyFigure {
-                    input: ConsistencyInput::Spo2 as i32,
-                    figure: Some(
-                        oxbind_client::v1::consistency_figure::Figure::StandardUncertainty(
-                            oxbind_client::v1::Quantity {
-                                value: 2.0,
-                                unit: "%".to_owned(),
-                            },
-                        ),
-                    ),
+                inputs: vec![InputUncertainty {
+                    field: "sample.spo2_fraction".to_owned(),
+                    figure: Some(Figure::StandardUncertainty(UncertaintyAmount {
+                        absolute: q(2.0, "%"),
+                        relative: None,
+                    })),
                 }],
                 ..Default::default()
             }),
@@ -406,13 +468,110 @@ async fn the_uncertainty_rule_can_be_asked_for_and_states_its_figures() {
         .unwrap()
         .components
         .iter()
-        .find(|c| c.name == "spo2")
+        .find(|c| c.name == "sample.spo2_fraction")
         .expect("SpO2 component");
     assert_eq!(spo2.source, "stated in the request");
+    assert_eq!(spo2.origin, FigureOrigin::Stated as i32);
     assert_eq!(
         spo2.input_standard_uncertainty.as_ref().unwrap().value,
         0.02
     );
+    server.stop().await;
+}
+
+/// One component of a finding's uncertainty, by name.
+fn component<'a>(
+    f: &'a ConsistencyFinding,
+    name: &str,
+) -> Option<&'a oxbind_client::v1::UncertaintyComponent> {
+    f.uncertainty
+        .as_ref()
+        .and_then(|u| u.components.iter().find(|c| c.name == name))
+}
+
+#[tokio::test]
+async fn figures_are_given_as_for_every_rpc_with_bounds_and_profile_sets() {
+    let server = TestServer::start().await;
+    let c = client(&server).await;
+    // FiO2 known to within ±2 percentage points, every value in that band
+    // equally likely: u = 0.02/√3 (rectangular, JCGM 100:2008 4.3.7).
+    let fio2 = InputUncertainty {
+        field: "sample.fio2".to_owned(),
+        figure: Some(Figure::Bound(UncertaintyBound {
+            half_width: Some(UncertaintyAmount {
+                absolute: q(2.0, "%"),
+                relative: None,
+            }),
+            shape: BoundShape::Rectangular as i32,
+            ..Default::default()
+        })),
+    };
+    let r = c
+        .check_blood_gas(CheckBloodGasRequest {
+            sample: Some(air_in_the_syringe()),
+            uncertainty: Some(ConsistencyUncertainty {
+                inputs: vec![fio2.clone()],
+                profile_sets: vec!["analytical-goal-harding-fraser-1987".to_owned()],
+                ..Default::default()
+            }),
+            ..Default::default()
+        })
+        .await
+        .unwrap();
+    let alveolar = finding(&r, ConsistencyCheck::AboveAlveolar);
+    let f = component(alveolar, "sample.fio2").expect("FiO2 component");
+    assert_eq!(f.origin, FigureOrigin::Stated as i32);
+    let u = f.input_standard_uncertainty.as_ref().unwrap();
+    assert!((u.value - 0.02 / 3f64.sqrt()).abs() < 1e-12, "{u:?}");
+    // The set covers PCO2 (and pH); its figure wins over the built-in one:
+    // u 0.9 mm[Hg], Harding and Fraser, Clin Chem 1987 (profiles.csv).
+    let pco2 = component(alveolar, "sample.pco2").expect("PCO2 component");
+    assert_eq!(pco2.profile_id, "analytical-goal-harding-fraser-1987-pco2");
+    assert_eq!(
+        pco2.profile_verification,
+        ProfileVerification::Verified as i32
+    );
+    let u = pco2.input_standard_uncertainty.as_ref().unwrap();
+    assert!((u.value - 0.9).abs() < 1e-12, "{u:?}");
+    // PO2 has no figure in the request or the set: the built-in one fills in.
+    let po2 = component(alveolar, "sample.po2").expect("PO2 component");
+    assert_eq!(po2.profile_id, "clia-2024-po2");
+    let missing: Vec<&str> = alveolar
+        .uncertainty
+        .as_ref()
+        .unwrap()
+        .inputs_not_considered
+        .iter()
+        .map(|n| n.field.as_str())
+        .collect();
+    assert_eq!(missing, ["sample.barometric_pressure"]);
+
+    // Without the built-in figures only what was given counts.
+    let r = c
+        .check_blood_gas(CheckBloodGasRequest {
+            sample: Some(air_in_the_syringe()),
+            uncertainty: Some(ConsistencyUncertainty {
+                inputs: vec![fio2],
+                no_built_in_figures: true,
+                ..Default::default()
+            }),
+            ..Default::default()
+        })
+        .await
+        .unwrap();
+    let alveolar = finding(&r, ConsistencyCheck::AboveAlveolar);
+    assert!(component(alveolar, "sample.po2").is_none());
+    let missing: Vec<&str> = alveolar
+        .uncertainty
+        .as_ref()
+        .unwrap()
+        .inputs_not_considered
+        .iter()
+        .map(|n| n.field.as_str())
+        .collect();
+    for field in ["sample.po2", "sample.pco2", "sample.barometric_pressure"] {
+        assert!(missing.contains(&field), "{field} not in {missing:?}");
+    }
     server.stop().await;
 }
 

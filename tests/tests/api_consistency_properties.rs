@@ -7,8 +7,9 @@
 //! discordant: a request inside every limit always computes.
 
 use oxbind_client::v1::{
-    consistency_figure::Figure, BloodGasResults, CheckBloodGasRequest, CheckBloodGasResponse,
-    ConsistencyFigure, ConsistencyUncertainty, ConsistencyVerdict, Quantity, ResultsAt37Cel,
+    input_uncertainty::Figure, BloodGasResults, BoundShape, CheckBloodGasRequest,
+    CheckBloodGasResponse, ConsistencyUncertainty, ConsistencyVerdict, InputUncertainty, Quantity,
+    ResultsAt37Cel, UncertaintyAmount, UncertaintyBound,
 };
 use oxbind_service::api::consistency::compute_check_blood_gas;
 use proptest::{option, prelude::*, test_runner::TestCaseError};
@@ -102,41 +103,111 @@ fn sample() -> impl Strategy<Value = BloodGasResults> {
     )
 }
 
+/// The request fields a figure may name, and some it may not.
+const FIGURE_FIELDS: &[&str] = &[
+    "sample.po2",
+    "sample.pco2",
+    "sample.ph",
+    "sample.so2_fraction",
+    "sample.spo2_fraction",
+    "sample.cohb",
+    "sample.methb",
+    "sample.fio2",
+    "sample.barometric_pressure",
+    "sample.bicarbonate",
+    "sample.results_at_37_cel.po2",
+    "sample.results_at_37_cel.ph",
+    "sample.temperature",
+    "po2",
+    "",
+];
+
+fn amount() -> impl Strategy<Value = UncertaintyAmount> {
+    (
+        option::of(quantity(
+            0.0,
+            20.0,
+            &["mm[Hg]", "%", "1", "[pH]", "mmol/L", "kPa", "Cel"],
+        )),
+        option::of(quantity(0.0, 30.0, &["%", "1"])),
+    )
+        .prop_map(|(absolute, relative)| UncertaintyAmount { absolute, relative })
+}
+
 fn figures() -> impl Strategy<Value = Option<ConsistencyUncertainty>> {
+    let bound = (
+        amount(),
+        0..7i32,
+        number(0.5, 0.99),
+        number(1.0, 3.0),
+        number(0.0, 1.0),
+    )
+        .prop_map(|(half_width, shape, coverage_probability, k, beta)| {
+            let mut bound = UncertaintyBound {
+                half_width: Some(half_width),
+                shape,
+                ..Default::default()
+            };
+            match BoundShape::try_from(shape) {
+                Ok(BoundShape::Unspecified | BoundShape::Normal) => {
+                    bound.coverage_probability = coverage_probability;
+                }
+                Ok(BoundShape::CoverageFactor) => bound.coverage_factor = k,
+                Ok(BoundShape::Trapezoidal) => bound.trapezoid_top_ratio = beta,
+                _ => {}
+            }
+            bound
+        });
     let figure = (
-        0..12i32,
-        prop_oneof![
-            quantity(0.0, 20.0, &["mm[Hg]", "%", "1", "[pH]", "mmol/L", "kPa"])
-                .prop_map(Figure::StandardUncertainty),
-            number(0.0, 0.3).prop_map(Figure::RelativeStandardUncertainty),
+        prop::sample::select(FIGURE_FIELDS),
+        option::of(prop_oneof![
+            amount().prop_map(Figure::StandardUncertainty),
+            bound.prop_map(Figure::Bound),
             prop::sample::select(
                 &[
                     "clia-2024-po2",
                     "clia-2024-ph",
                     "pulse-oximeter-iso-80601-2-61-spo2",
+                    "co-oximetry-repeatability-mallat-2015-saturation",
                     "no-such-profile",
                 ][..]
             )
             .prop_map(|id| Figure::ProfileId(id.to_owned())),
-        ],
+        ]),
     )
-        .prop_map(|(input, figure)| ConsistencyFigure {
-            input,
-            figure: Some(figure),
+        .prop_map(|(field, figure)| InputUncertainty {
+            field: field.to_owned(),
+            figure,
         });
+    let sets = prop::collection::vec(
+        prop::sample::select(
+            &[
+                "clia-2024",
+                "analytical-goal-harding-fraser-1987",
+                "pulse-oximeter-fda-2013-reflectance",
+                "no-such-set",
+            ][..],
+        )
+        .prop_map(str::to_owned),
+        0..3,
+    );
     option::of(
         (
             prop::collection::vec(figure, 0..4),
+            sets,
             any::<bool>(),
-            option::of(number(0.5, 0.999)),
+            prop_oneof![Just(0.0), number(0.5, 0.999)],
         )
-            .prop_map(|(figures, no_built_in_figures, coverage_probability)| {
-                ConsistencyUncertainty {
-                    figures,
-                    no_built_in_figures,
-                    coverage_probability,
-                }
-            }),
+            .prop_map(
+                |(inputs, profile_sets, no_built_in_figures, coverage_probability)| {
+                    ConsistencyUncertainty {
+                        inputs,
+                        profile_sets,
+                        no_built_in_figures,
+                        coverage_probability,
+                    }
+                },
+            ),
     )
 }
 

@@ -1281,15 +1281,6 @@ happens to a discordant sample."
                 "WHITE_CELL_COUNT_OUT_OF_RANGE"
             ),
             (
-                "coverage_probability",
-                0.5,
-                true,
-                0.999,
-                true,
-                "1",
-                "COVERAGE_PROBABILITY_OUT_OF_RANGE"
-            ),
-            (
                 "batch_items",
                 1.0,
                 true,
@@ -1449,10 +1440,6 @@ happens to a discordant sample."
         ),
         ("bicarbonate", owned(&["sample.bicarbonate"])),
         ("white_cell_count", owned(&["sample.white_cell_count"])),
-        (
-            "coverage_probability",
-            owned(&["uncertainty.coverage_probability"]),
-        ),
         ("batch_items", owned(&["requests"])),
     ];
     let expected_fields: Vec<(&str, Vec<&str>)> = expected_fields

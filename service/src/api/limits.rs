@@ -662,22 +662,8 @@ pub const WHITE_CELL_COUNT: HardLimit = HardLimit {
     reason: "a count cannot be negative; above 1000 x 10^9/L is beyond any reported leukocytosis and the value is a unit error (our judgement)",
 };
 
-/// Coverage probability of the consistency checks' uncertainty-based limits.
-pub const COVERAGE_PROBABILITY: HardLimit = HardLimit {
-    input: "coverage_probability",
-    fields: &["uncertainty.coverage_probability"],
-    unit: "1",
-    unit_key: "fraction",
-    min: crate::physiology::uncertainty::evaluate::MIN_COVERAGE_PROBABILITY,
-    min_inclusive: true,
-    max: crate::physiology::uncertainty::evaluate::MAX_COVERAGE_PROBABILITY,
-    max_inclusive: true,
-    error_reason: "COVERAGE_PROBABILITY_OUT_OF_RANGE",
-    reason: "below one half a limit says little; above 0.999 the normal coverage factor rests on the far tails of the distributions",
-};
-
 /// Every hard limit, in the order the catalog lists them.
-pub const ALL: [&HardLimit; 34] = [
+pub const ALL: [&HardLimit; 33] = [
     &PH,
     &PRESSURE,
     &CONDITIONS_PCO2,
@@ -711,5 +697,4 @@ pub const ALL: [&HardLimit; 34] = [
     &UNCERTAINTY_TRAPEZOID_RATIO,
     &BICARBONATE,
     &WHITE_CELL_COUNT,
-    &COVERAGE_PROBABILITY,
 ];

@@ -10,11 +10,10 @@ use std::path::PathBuf;
 
 use clap::{Args, ValueEnum};
 use oxbind_client::v1::{
-    consistency_figure::Figure, BicarbonateSource, BloodGasResults, BloodGasSampleType,
-    CheckBloodGasRequest, CheckBloodGasResponse, ConsistencyCheck, ConsistencyFigure,
-    ConsistencyFinding, ConsistencyInput, ConsistencyThresholdRule, ConsistencyUncertainty,
-    ConsistencyVerdict, Quantity, ReportedTemperature, ResultsAt37Cel, SaturationKind,
-    ThresholdBasis,
+    BicarbonateSource, BloodGasResults, BloodGasSampleType, CheckBloodGasRequest,
+    CheckBloodGasResponse, ConsistencyCheck, ConsistencyFinding, ConsistencyThresholdRule,
+    ConsistencyUncertainty, ConsistencyVerdict, Quantity, ReportedTemperature, ResultsAt37Cel,
+    SaturationKind, ThresholdBasis,
 };
 
 use crate::{
@@ -22,6 +21,7 @@ use crate::{
     failure::Failure,
     fields::FieldNames,
     output::{self, print_json, Table},
+    uncertainty::FigureFlags,
     Context,
 };
 
@@ -189,7 +189,8 @@ pub(crate) fn cell_count(text: &str) -> Result<Quantity, String> {
     args::parse_quantity(text, crate::columns::CELLS_PER_NL)
 }
 
-/// The uncertainty figures and the rule, for one sample and for --input.
+/// The threshold rule and the uncertainty figures, for one sample and for
+/// --input (every row).
 #[derive(Debug, Clone, Default, Args)]
 #[command(next_help_heading = "Thresholds and uncertainty figures")]
 pub(crate) struct FigureArgs {
@@ -197,35 +198,35 @@ pub(crate) struct FigureArgs {
     /// published-where-available).
     #[arg(long, value_enum)]
     pub(crate) threshold_rule: Option<ThresholdRuleArg>,
-    /// An input's uncertainty figure, INPUT=FIGURE; repeat for more. INPUT:
-    /// po2, pco2, ph, so2, spo2, cohb, methb, fio2, barometric-pressure,
-    /// bicarbonate. FIGURE: a standard uncertainty in the input's unit
-    /// (`po2=4mm[Hg]`, `spo2=2%`, `ph=0.01`), `relative:0.05` (5 % of the
-    /// value), or `profile:ID` (a built-in profile).
-    #[arg(long = "figure", value_parser = figure, value_name = "INPUT=FIGURE")]
-    pub(crate) figures: Vec<ConsistencyFigure>,
-    /// Use only the --figure figures; inputs without one add nothing.
+    /// The figures of the uncertainty-based rules, spelt as on every other
+    /// command: `--u NAME=FIGURE` names an input by its own flag (`po2`,
+    /// `pco2`, `ph`, `so2`, `spo2`, `cohb`, `methb`, `fio2`, `barometric`,
+    /// `bicarbonate`), `--uncertainty SET` a built-in profile set.
+    #[command(flatten)]
+    pub(crate) figures: FigureFlags,
+    /// Use only the --u and --uncertainty figures; inputs without one add
+    /// nothing (without it the built-in published figures fill in).
     #[arg(long)]
     pub(crate) no_built_in_figures: bool,
-    /// Coverage probability of the uncertainty-based limits (default 0.95).
-    #[arg(long, value_name = "PROBABILITY")]
-    pub(crate) coverage_probability: Option<f64>,
+    /// Coverage probability of the uncertainty-based limits (`0.95`, or
+    /// `95%`; server default 0.95).
+    #[arg(long, value_parser = args::saturation, value_name = "FRACTION")]
+    pub(crate) coverage: Option<f64>,
 }
 
 impl FigureArgs {
-    /// The request's `uncertainty`, when any flag was given.
-    pub(crate) fn to_uncertainty(&self) -> Option<ConsistencyUncertainty> {
-        if self.figures.is_empty()
-            && !self.no_built_in_figures
-            && self.coverage_probability.is_none()
-        {
-            return None;
+    /// The request's `uncertainty`, when any flag was given: each `--u`
+    /// tied to the sample field its flag sets.
+    pub(crate) fn to_uncertainty(&self) -> Result<Option<ConsistencyUncertainty>, Failure> {
+        if !self.figures.is_given() && !self.no_built_in_figures && self.coverage.is_none() {
+            return Ok(None);
         }
-        Some(ConsistencyUncertainty {
-            figures: self.figures.clone(),
+        Ok(Some(ConsistencyUncertainty {
+            inputs: self.figures.inputs(&sample_names())?,
+            profile_sets: self.figures.profile_sets.clone(),
             no_built_in_figures: self.no_built_in_figures,
-            coverage_probability: self.coverage_probability,
-        })
+            coverage_probability: self.coverage.unwrap_or(0.0),
+        }))
     }
 
     /// The request's `threshold_rule`.
@@ -233,57 +234,16 @@ impl FigureArgs {
         self.threshold_rule
             .map_or(0, |r| ConsistencyThresholdRule::from(r) as i32)
     }
-}
 
-/// The names --figure accepts, with their contract values.
-const FIGURE_INPUTS: [(&str, ConsistencyInput); 10] = [
-    ("po2", ConsistencyInput::Po2),
-    ("pco2", ConsistencyInput::Pco2),
-    ("ph", ConsistencyInput::Ph),
-    ("so2", ConsistencyInput::So2),
-    ("spo2", ConsistencyInput::Spo2),
-    ("cohb", ConsistencyInput::Cohb),
-    ("methb", ConsistencyInput::Methb),
-    ("fio2", ConsistencyInput::Fio2),
-    ("barometric-pressure", ConsistencyInput::BarometricPressure),
-    ("bicarbonate", ConsistencyInput::Bicarbonate),
-];
-
-/// `INPUT=FIGURE`, e.g. `po2=4mm[Hg]`, `spo2=relative:0.02`,
-/// `ph=profile:clia-2024-ph`.
-pub(crate) fn figure(text: &str) -> Result<ConsistencyFigure, String> {
-    let (name, value) = text
-        .split_once('=')
-        .ok_or_else(|| format!("`{text}` is not INPUT=FIGURE (for example po2=4mm[Hg])"))?;
-    let name = name.trim().to_lowercase();
-    let (_, input) = FIGURE_INPUTS
-        .iter()
-        .find(|(n, _)| *n == name)
-        .ok_or_else(|| {
-            format!(
-                "unknown input `{name}`; the inputs are {}",
-                FIGURE_INPUTS.map(|(n, _)| n).join(", ")
-            )
-        })?;
-    let value = value.trim();
-    let figure = if let Some(id) = value.strip_prefix("profile:") {
-        Figure::ProfileId(id.trim().to_owned())
-    } else if let Some(relative) = value.strip_prefix("relative:") {
-        Figure::RelativeStandardUncertainty(args::saturation(relative)?)
-    } else {
-        Figure::StandardUncertainty(match input {
-            ConsistencyInput::Po2
-            | ConsistencyInput::Pco2
-            | ConsistencyInput::BarometricPressure => args::pressure(value)?,
-            ConsistencyInput::Ph => args::parse_quantity(value, "[pH]")?,
-            ConsistencyInput::Bicarbonate => args::concentration(value)?,
-            _ => args::fraction(value)?,
-        })
-    };
-    Ok(ConsistencyFigure {
-        input: *input as i32,
-        figure: Some(figure),
-    })
+    /// `names` with the rule and the uncertainty fields named as the flags
+    /// that set them (shared by both modes).
+    pub(crate) fn names(&self, names: FieldNames) -> FieldNames {
+        self.figures
+            .names(names)
+            .with("threshold_rule", "--threshold-rule")
+            .with("uncertainty.no_built_in_figures", "--no-built-in-figures")
+            .with("uncertainty.coverage_probability", "--coverage")
+    }
 }
 
 /// Flags of `oxbind check`.
@@ -385,10 +345,9 @@ impl SampleArgs {
     }
 }
 
-/// How `check` names its fields (the sample flags, and each --figure by its
-/// place).
-pub(crate) fn check_names(figures: usize) -> FieldNames {
-    let mut names = uncertainty_names(figures).with("sample", "the sample flags");
+/// How `check` names the sample's fields: by their flags.
+pub(crate) fn sample_names() -> FieldNames {
+    let mut names = FieldNames::new().with("sample", "the sample flags");
     for (path, flag) in [
         ("po2", "--po2"),
         ("pco2", "--pco2"),
@@ -417,26 +376,10 @@ pub(crate) fn check_names(figures: usize) -> FieldNames {
     names
 }
 
-/// How the flags shared by both modes name their fields: the threshold
-/// rule, the coverage probability, and each --figure by its place.
-pub(crate) fn uncertainty_names(figures: usize) -> FieldNames {
-    let mut names = FieldNames::new()
-        .with("threshold_rule", "--threshold-rule")
-        .with("uncertainty.coverage_probability", "--coverage-probability");
-    for i in 0..figures {
-        let name = format!("--figure {}", i + 1);
-        let base = format!("uncertainty.figures[{i}]");
-        for sub in [
-            "",
-            ".input",
-            ".standard_uncertainty",
-            ".relative_standard_uncertainty",
-            ".profile_id",
-        ] {
-            names = names.with(&format!("{base}{sub}"), name.clone());
-        }
-    }
-    names
+/// How `check` for one sample names its fields: the sample flags, the rule
+/// and the uncertainty flags (each --u and --uncertainty by what was typed).
+pub(crate) fn check_names(figures: &FigureArgs) -> FieldNames {
+    figures.names(sample_names())
 }
 
 /// `oxbind check` for one sample.
@@ -445,7 +388,7 @@ pub(crate) async fn check(ctx: &Context, a: &CheckArgs) -> Result<(), Failure> {
         .client
         .check_blood_gas(CheckBloodGasRequest {
             sample: Some(a.sample.to_results()),
-            uncertainty: a.figures.to_uncertainty(),
+            uncertainty: a.figures.to_uncertainty()?,
             threshold_rule: a.figures.rule(),
             model: ctx.model,
             unit_system: ctx.unit_system,
@@ -454,7 +397,7 @@ pub(crate) async fn check(ctx: &Context, a: &CheckArgs) -> Result<(), Failure> {
     if ctx.json {
         return print_json(&response, "oxbind.v1.CheckBloodGasResponse");
     }
-    print_findings(&response, &check_names(a.figures.figures.len()), true)
+    print_findings(&response, &check_names(&a.figures), true)
 }
 
 /// A check in plain words.

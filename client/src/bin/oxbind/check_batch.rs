@@ -298,6 +298,9 @@ pub(crate) fn prepare(a: &CheckArgs, model: i32, unit_system: i32) -> Result<Pre
             "{source}: no `po2` column; every sample needs a PO2"
         )));
     }
+    // Every row takes the same figures, tied to the sample fields by the
+    // flags' names.
+    let uncertainty = a.figures.to_uncertainty()?;
     let mut rows = Vec::new();
     for record in reader.records() {
         let record = record.map_err(|e| unreadable(&e))?;
@@ -311,14 +314,14 @@ pub(crate) fn prepare(a: &CheckArgs, model: i32, unit_system: i32) -> Result<Pre
         }
         let item = sample.finish(&headers).map(|results| CheckBloodGasRequest {
             sample: Some(results),
-            uncertainty: a.figures.to_uncertainty(),
+            uncertainty: uncertainty.clone(),
             threshold_rule: a.figures.rule(),
             model,
             unit_system,
         });
         rows.push(Row { carried, item });
     }
-    let mut names = crate::check::uncertainty_names(a.figures.figures.len());
+    let mut names = a.figures.names(FieldNames::new());
     let mut carried_headers = Vec::new();
     for header in &headers {
         match header {

@@ -12,7 +12,7 @@ use oxbind_client::v1::{
 };
 
 use crate::{
-    check::{check_names, print_findings},
+    check::{print_findings, sample_names},
     commands::{curve_point_names, describe},
     failure::Failure,
     output::{self, Table},
@@ -166,7 +166,7 @@ findings support its review; they do not reject results.\n",
                 ..Default::default()
             })
             .await?;
-        print_findings(&response, &check_names(0), false)?;
+        print_findings(&response, &sample_names(), false)?;
         output::line("")?;
     }
     Ok(())

@@ -227,7 +227,7 @@ fn names_for(command: &Command) -> FieldNames {
         Command::Content(a) => a.uncertainty.names(commands::content_names()),
         Command::GasExchange(a) => a.uncertainty.names(commands::gas_exchange_names()),
         Command::Demo(_) => commands::curve_point_names(),
-        Command::Check(a) => check::check_names(a.figures.figures.len()),
+        Command::Check(a) => check::check_names(&a.figures),
         _ => FieldNames::new(),
     }
 }

@@ -12,7 +12,7 @@ mod figures;
 mod read;
 mod respond;
 
-pub use figures::{figure_input, wire_input, REASON_UNKNOWN_PROFILE};
+pub use figures::field_path;
 pub use respond::{wire_check, wire_verdict};
 
 use oxbind_proto::v1::{

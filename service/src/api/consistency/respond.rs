@@ -2,17 +2,24 @@
 //! response's unit system.
 
 use oxbind_proto::v1::{
-    ConsistencyCause, ConsistencyCheck, ConsistencyFinding, ConsistencyVerdict, FindingDirection,
-    FindingUncertainty as WireUncertainty, Quantity, ThresholdBasis as WireBasis,
-    UncertaintyComponent, UnitSystem,
+    ConsistencyCause, ConsistencyCheck, ConsistencyFinding, ConsistencyVerdict, FigureOrigin,
+    FindingDirection, FindingUncertainty as WireUncertainty, InputNotConsidered,
+    NotConsideredReason, Quantity, ThresholdBasis as WireBasis, UncertaintyComponent, UnitSystem,
 };
 
-use super::figures::{input_kind, wire_input};
-use crate::api::units::{self, QuantityKind};
-use crate::physiology::consistency::{
-    causes, finding::ComponentOrigin, Check, Component, ComponentName, Direction, Finding,
-    FindingUncertainty, StatisticUnit, ThresholdBasis, Verdict,
+use super::figures::{field_path, input_kind};
+use crate::api::{
+    uncertainty::verification,
+    units::{self, QuantityKind},
 };
+use crate::physiology::consistency::{
+    causes, finding::ComponentOrigin, Check, Component, ComponentName, Direction,
+    FigureOrigin as Origin, Finding, FindingUncertainty, StatisticUnit, ThresholdBasis, Verdict,
+};
+
+/// Why an input of a statistic without a figure adds nothing, in words.
+const NO_FIGURE: &str = "no figure for this input (none in the request, none in its profile \
+sets, and no built-in one, or built-in figures were turned off): it adds nothing";
 
 /// The contract's code of a check.
 pub fn wire_check(check: Check) -> ConsistencyCheck {
@@ -137,25 +144,48 @@ fn uncertainty(u: &FindingUncertainty, unit: StatisticUnit, system: UnitSystem) 
             .iter()
             .map(|c| component(c, unit, system))
             .collect(),
-        not_considered: u
+        inputs_not_considered: u
             .not_considered
             .iter()
-            .map(|i| wire_input(*i) as i32)
+            .map(|i| InputNotConsidered {
+                field: field_path(*i).to_owned(),
+                reason: NotConsideredReason::NoFigure as i32,
+                message: NO_FIGURE.to_owned(),
+            })
             .collect(),
     }
 }
 
 fn component(c: &Component, unit: StatisticUnit, system: UnitSystem) -> UncertaintyComponent {
-    UncertaintyComponent {
-        name: c.name.name().to_owned(),
+    let mut out = UncertaintyComponent {
+        name: match c.name {
+            ComponentName::Input(input) => field_path(input).to_owned(),
+            other => other.name().to_owned(),
+        },
         input_standard_uncertainty: match (c.name, c.input_standard_uncertainty) {
             (ComponentName::Input(input), Some(u)) => Some(input_quantity(input, u, system)),
             _ => None,
         },
         contribution: Some(quantity(c.contribution, unit, system)),
-        source: match &c.origin {
-            ComponentOrigin::Figure(origin) => origin.describe(),
-            ComponentOrigin::Rule(rule) => rule.clone(),
-        },
+        ..Default::default()
+    };
+    match &c.origin {
+        ComponentOrigin::Figure(origin) => {
+            out.source = origin.describe();
+            match origin {
+                Origin::Stated => out.origin = FigureOrigin::Stated as i32,
+                Origin::Profile {
+                    id,
+                    verification: v,
+                    ..
+                } => {
+                    out.origin = FigureOrigin::Profile as i32;
+                    out.profile_id = id.clone();
+                    out.profile_verification = verification(*v) as i32;
+                }
+            }
+        }
+        ComponentOrigin::Rule(rule) => out.source = rule.clone(),
     }
+    out
 }

@@ -1,9 +1,13 @@
 //! The uncertainty figures of the uncertainty-based rules: one per sample
-//! input, stated by the caller or taken from the uncertainty engine's
-//! built-in profiles ([`crate::physiology::uncertainty::profiles`]), each
-//! with its origin so that a finding can say where it came from.
+//! input, stated by the caller (a [`Statement`], as every uncertainty
+//! evaluation takes it) or taken from the uncertainty engine's built-in
+//! profiles ([`crate::physiology::uncertainty::profiles`]), by id or by
+//! profile set, each with its origin so that a finding can say where it
+//! came from.
 
-use crate::physiology::uncertainty::profiles::{profile, ProfileTableError, Verification};
+use crate::physiology::uncertainty::profiles::{
+    profile, profile_in_set, Profile, ProfileTableError, Verification,
+};
 use crate::physiology::uncertainty::{Amount, InputQuantity, Statement};
 
 /// A sample input that can carry an uncertainty figure.
@@ -88,23 +92,17 @@ impl FigureInput {
     }
 }
 
-/// The built-in figure of each input that has one: a profile of the
-/// uncertainty engine, by id. Inputs not listed (COHb, MetHb, FiO2,
-/// barometric pressure, bicarbonate) have no published figure
-/// (reference/assurance.md A.1 "gap") and add nothing unless the caller gives
-/// one.
-pub const BUILT_IN_PROFILES: [(FigureInput, &str); 5] = [
-    (FigureInput::Po2, "clia-2024-po2"),
-    (FigureInput::Pco2, "clia-2024-pco2"),
-    (FigureInput::Ph, "clia-2024-ph"),
-    (
-        FigureInput::So2,
-        "co-oximetry-repeatability-mallat-2015-saturation",
-    ),
-    (
-        FigureInput::Spo2,
-        "pulse-oximeter-fda-2013-transmittance-spo2",
-    ),
+/// The built-in figures: the profile sets applied, in order, to every input
+/// still without a figure. They cover PO2, PCO2 and pH (proficiency-testing
+/// limits, 42 CFR 493), the measured saturation (co-oximeter repeatability)
+/// and SpO2 (pulse-oximeter accuracy); COHb, MetHb, FiO2, barometric
+/// pressure and bicarbonate have no published figure
+/// (reference/assurance.md A.1 "gap") and add nothing unless the caller
+/// gives one.
+pub const BUILT_IN_PROFILE_SETS: [&str; 3] = [
+    "clia-2024",
+    "co-oximetry-repeatability-mallat-2015",
+    "pulse-oximeter-fda-2013-transmittance",
 ];
 
 /// Where a figure comes from.
@@ -140,11 +138,8 @@ impl FigureOrigin {
 /// One input's figure.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Figure {
-    /// The statement of the uncertainty.
+    /// The statement of the uncertainty, in the input's engine unit.
     pub statement: Statement,
-    /// The engine quantity the statement is resolved as (its profile's, or
-    /// the input's first).
-    pub quantity: Option<InputQuantity>,
     /// Where it comes from.
     pub origin: FigureOrigin,
 }
@@ -153,9 +148,14 @@ impl Figure {
     /// A caller's standard uncertainty, absolute and/or relative (the
     /// greater applies).
     pub fn stated(amount: Amount) -> Figure {
+        Figure::stated_as(Statement::StandardUncertainty(amount))
+    }
+
+    /// A caller's statement: a standard uncertainty or a bound with what it
+    /// covers.
+    pub fn stated_as(statement: Statement) -> Figure {
         Figure {
-            statement: Statement::StandardUncertainty(amount),
-            quantity: None,
+            statement,
             origin: FigureOrigin::Stated,
         }
     }
@@ -175,31 +175,28 @@ impl Figure {
                 profile_input: p.input,
             });
         }
-        Ok(Figure {
+        Ok(Figure::of_profile(p))
+    }
+
+    fn of_profile(p: &Profile) -> Figure {
+        Figure {
             statement: p.statement,
-            quantity: Some(p.input),
             origin: FigureOrigin::Profile {
                 id: p.id.clone(),
                 verification: p.verification,
                 source: p.source.clone(),
             },
-        })
+        }
     }
 
     /// The standard uncertainty at the value `x` (engine unit), by the GUM
-    /// conversion of the statement (JCGM 100:2008 clause 4.3, as the
-    /// uncertainty engine does it).
+    /// conversion of the statement (JCGM 100:2008 clause 4.3, the divisor
+    /// the uncertainty engine uses: [`crate::physiology::uncertainty::BoundShape::divisor`]).
+    /// The statement's numbers were checked when it was read.
     pub fn standard_uncertainty(&self, x: f64) -> f64 {
-        match (&self.statement, self.quantity) {
-            (Statement::StandardUncertainty(amount), _) => amount.at(x),
-            (statement, Some(quantity)) => statement
-                .resolve(quantity, x)
-                .map(|r| r.standard_uncertainty)
-                // Built-in statements are checked when the table is read; a
-                // bound that cannot be resolved adds nothing rather than
-                // a guess.
-                .unwrap_or(0.0),
-            (Statement::Bound { .. }, None) => 0.0,
+        match self.statement {
+            Statement::StandardUncertainty(amount) => amount.at(x),
+            Statement::Bound { half_width, shape } => half_width.at(x) / shape.divisor(),
         }
     }
 }
@@ -230,7 +227,7 @@ impl Figures {
         Figures::default()
     }
 
-    /// The built-in figures ([`BUILT_IN_PROFILES`]).
+    /// The built-in figures ([`BUILT_IN_PROFILE_SETS`]).
     ///
     /// # Errors
     ///
@@ -238,10 +235,43 @@ impl Figures {
     /// caught by the tests).
     pub fn built_in() -> Result<Figures, FigureError> {
         let mut figures = Figures::none();
-        for (input, id) in BUILT_IN_PROFILES {
-            figures.set(input, Figure::profile(input, id)?);
-        }
+        figures.fill_built_in()?;
         Ok(figures)
+    }
+
+    /// Give every input still without a figure its built-in one, if any
+    /// ([`BUILT_IN_PROFILE_SETS`]).
+    ///
+    /// # Errors
+    ///
+    /// As [`Figures::built_in`].
+    pub fn fill_built_in(&mut self) -> Result<(), FigureError> {
+        for set in BUILT_IN_PROFILE_SETS {
+            self.fill_from_set(set)?;
+        }
+        Ok(())
+    }
+
+    /// Give every input still without a figure the profile of `set` for it,
+    /// if the set covers it. An unknown set covers nothing (the caller
+    /// checks set names).
+    ///
+    /// # Errors
+    ///
+    /// [`FigureError::ProfileTable`] for a malformed table (a build defect).
+    pub fn fill_from_set(&mut self, set: &str) -> Result<(), FigureError> {
+        for input in FigureInput::ALL {
+            if self.get(input).is_some() {
+                continue;
+            }
+            for &quantity in input.engine_quantities() {
+                if let Some(p) = profile_in_set(set, quantity).map_err(FigureError::ProfileTable)? {
+                    self.set(input, Figure::of_profile(p));
+                    break;
+                }
+            }
+        }
+        Ok(())
     }
 
     /// Set (or replace) the figure of `input`.
@@ -264,16 +294,76 @@ mod tests {
     use super::*;
 
     #[test]
-    fn every_built_in_profile_exists_and_fits_its_input() {
+    fn the_built_in_sets_give_the_published_figure_of_each_input_that_has_one() {
         let figures = Figures::built_in().expect("built-in profiles");
-        for (input, id) in BUILT_IN_PROFILES {
+        for (input, id) in [
+            (FigureInput::Po2, "clia-2024-po2"),
+            (FigureInput::Pco2, "clia-2024-pco2"),
+            (FigureInput::Ph, "clia-2024-ph"),
+            (
+                FigureInput::So2,
+                "co-oximetry-repeatability-mallat-2015-saturation",
+            ),
+            (
+                FigureInput::Spo2,
+                "pulse-oximeter-fda-2013-transmittance-spo2",
+            ),
+        ] {
             let figure = figures.get(input).expect("set");
             assert!(
                 matches!(&figure.origin, FigureOrigin::Profile { id: got, .. } if got == id),
-                "{id}"
+                "{id}: {:?}",
+                figure.origin
             );
         }
-        assert!(figures.get(FigureInput::Fio2).is_none());
+        for input in [
+            FigureInput::Cohb,
+            FigureInput::Methb,
+            FigureInput::Fio2,
+            FigureInput::BarometricPressure,
+            FigureInput::Bicarbonate,
+        ] {
+            assert!(figures.get(input).is_none(), "{input:?}");
+        }
+    }
+
+    #[test]
+    fn a_set_fills_only_inputs_without_a_figure() {
+        let mut figures = Figures::none();
+        figures.set(FigureInput::Ph, Figure::stated(Amount::absolute(0.01)));
+        figures
+            .fill_from_set("analytical-goal-harding-fraser-1987")
+            .unwrap();
+        assert_eq!(
+            figures.get(FigureInput::Ph).unwrap().origin,
+            FigureOrigin::Stated
+        );
+        assert!(matches!(
+            &figures.get(FigureInput::Pco2).unwrap().origin,
+            FigureOrigin::Profile { id, .. } if id == "analytical-goal-harding-fraser-1987-pco2"
+        ));
+        assert!(figures.get(FigureInput::Po2).is_none());
+        figures.fill_from_set("no-such-set").unwrap();
+        assert!(figures.get(FigureInput::Po2).is_none());
+    }
+
+    #[test]
+    fn a_stated_bound_converts_by_the_gum_divisor() {
+        // A rectangular bound of ±0.03: u = 0.03/√3 (JCGM 100:2008 4.3.7).
+        let figure = Figure::stated_as(Statement::Bound {
+            half_width: Amount::absolute(0.03),
+            shape: crate::physiology::uncertainty::BoundShape::Rectangular,
+        });
+        assert!((figure.standard_uncertainty(0.9) - 0.03 / 3f64.sqrt()).abs() < 1e-15);
+        // A normal 95 % bound of 15 mm[Hg] or 15 % (greater) at 200 mm[Hg]:
+        // u = 30 / 1.959964 (JCGM 100:2008 4.3.4).
+        let figure = Figure::stated_as(Statement::Bound {
+            half_width: Amount::greater_of(15.0, 0.15),
+            shape: crate::physiology::uncertainty::BoundShape::Normal {
+                coverage_probability: 0.95,
+            },
+        });
+        assert!((figure.standard_uncertainty(200.0) - 30.0 / 1.959_963_984_540_054).abs() < 1e-9);
     }
 
     #[test]
