@@ -1,10 +1,10 @@
 //! `oxbind verify` against real servers in this process (the one test-server
 //! helper, `oxbind_tests::TestServer`): every case passes against the real
-//! service on its gRPC, Connect and FHIR doors, and two runs with the same
-//! `--as-of` give identical bytes; a
-//! stand-in server with one answer altered is caught, named and refused;
-//! and the HTML report is rendered by headless Chromium, so that it is
-//! known to print.
+//! service on its gRPC, Connect and FHIR doors, two runs with the same
+//! `--as-of` give identical bytes, and the uncertainty section lists the
+//! server's own profiles with the uncertainty cases; a stand-in server with
+//! one answer altered is caught, named and refused; and the HTML report is
+//! rendered by headless Chromium, so that it is known to print.
 
 use std::{
     collections::BTreeSet,
@@ -16,14 +16,16 @@ use std::{
 use oxbind_client::v1::{
     consistency_service_server::ConsistencyServiceServer,
     dissociation_service_server::{DissociationService, DissociationServiceServer},
+    model_catalog_service_client::ModelCatalogServiceClient,
     model_catalog_service_server::ModelCatalogServiceServer,
     oxygen_transport_service_server::OxygenTransportServiceServer,
     BatchSaturationFromTensionRequest, BatchSaturationFromTensionResponse,
     BatchTensionFromSaturationRequest, BatchTensionFromSaturationResponse,
     CorrectForTemperatureRequest, CorrectForTemperatureResponse, EstimateP50Request,
-    EstimateP50Response, Model, SampleCurveRequest, SampleCurveResponse,
-    SaturationFromTensionRequest, SaturationFromTensionResponse, ShiftFactorsRequest,
-    ShiftFactorsResponse, TensionFromSaturationRequest, TensionFromSaturationResponse,
+    EstimateP50Response, ListModelsRequest, Model, ProfileVerification, SampleCurveRequest,
+    SampleCurveResponse, SaturationFromTensionRequest, SaturationFromTensionResponse,
+    ShiftFactorsRequest, ShiftFactorsResponse, TensionFromSaturationRequest,
+    TensionFromSaturationResponse,
 };
 use oxbind_service::{
     grpc::{CatalogApi, ConsistencyApi, DissociationApi, TransportApi},
@@ -128,6 +130,8 @@ async fn every_case_passes_against_the_service_and_two_runs_are_byte_identical()
         families,
         BTreeSet::from(["api-example", "reference-table", "shared-vector"])
     );
+    let page = std::fs::read_to_string(&html_1).unwrap();
+    the_uncertainty_section_lists_the_servers_profiles_and_cases(&server, &report, &page).await;
 
     let (second, html_2, json_2) = verify(
         &server.uri(),
@@ -165,6 +169,122 @@ async fn every_case_passes_against_the_service_and_two_runs_are_byte_identical()
         text(&second.stdout)
     );
     server.stop().await;
+}
+
+/// The report's uncertainty section states what the server publishes: every
+/// built-in profile of its ListModels answer, in its order, with its figure,
+/// citation and verification; the two methods with the cases that asked for
+/// each; and the uncertainty cases, every one passed, on the gRPC and
+/// Connect doors (the FHIR operation takes no uncertainty request), each
+/// Monte Carlo one with a fixed seed.
+async fn the_uncertainty_section_lists_the_servers_profiles_and_cases(
+    server: &TestServer,
+    report: &Value,
+    page: &str,
+) {
+    let published = ModelCatalogServiceClient::new(server.channel().await)
+        .list_models(ListModelsRequest {})
+        .await
+        .unwrap()
+        .into_inner()
+        .uncertainty_profiles;
+    assert!(published.len() >= 5, "{published:?}");
+    let section = &report["uncertainty"];
+    assert_eq!(section["offered"], true);
+    assert!(section["profilesSha256"].as_str().unwrap().len() == 64);
+    let listed = section["profiles"].as_array().unwrap();
+    assert_eq!(listed.len(), published.len());
+    for (profile, listed) in published.iter().zip(listed) {
+        assert_eq!(listed["profileId"], profile.profile_id.as_str());
+        assert_eq!(listed["profileSet"], profile.profile_set.as_str());
+        assert_eq!(listed["input"], profile.input.as_str());
+        assert_eq!(listed["source"], profile.source.as_str());
+        assert_eq!(listed["conversion"], profile.conversion.as_str());
+        assert_eq!(
+            listed["verificationNote"],
+            profile.verification_note.as_str()
+        );
+        let verification = ProfileVerification::try_from(profile.verification).unwrap();
+        assert_eq!(listed["verification"], verification.as_str_name());
+        assert!(
+            listed["figure"]["standardUncertainty"].is_object()
+                || listed["figure"]["bound"].is_object(),
+            "{listed}"
+        );
+        assert!(page.contains(&profile.profile_id), "{}", profile.profile_id);
+    }
+    // The figures in words, as the server gave them (profiles.csv).
+    let figure = |id: &str| {
+        listed
+            .iter()
+            .find(|p| p["profileId"] == id)
+            .and_then(|p| p["figureText"].as_str())
+            .unwrap()
+            .to_owned()
+    };
+    assert_eq!(
+        figure("pulse-oximeter-fda-2013-transmittance-spo2"),
+        "standard uncertainty 0.03 (unit 1)"
+    );
+    assert_eq!(
+        figure("clia-2024-po2"),
+        "bound \u{b1} 15 mm[Hg] or 0.15 of the value, whichever is greater; normal, covering 0.95"
+    );
+    assert!(page.contains("Built-in profiles the server publishes"));
+    assert!(page.contains("JCGM 100:2008, clause 5.1.2"));
+    assert!(page.contains("JCGM 101:2008"));
+
+    let methods = section["methods"].as_array().unwrap();
+    let names: Vec<&str> = methods
+        .iter()
+        .filter_map(|m| m["method"].as_str())
+        .collect();
+    assert_eq!(
+        names,
+        [
+            "UNCERTAINTY_METHOD_FIRST_ORDER",
+            "UNCERTAINTY_METHOD_MONTE_CARLO"
+        ]
+    );
+    for method in methods {
+        assert!(method["cases"].as_u64().unwrap() >= 2, "{method}");
+        assert_eq!(method["passed"], method["cases"], "{method}");
+    }
+    let cases = section["cases"].as_array().unwrap();
+    let doors: BTreeSet<&str> = cases.iter().filter_map(|c| c["surface"].as_str()).collect();
+    assert_eq!(doors, BTreeSet::from(["connect-json", "grpc"]));
+    assert!(cases.len() >= 30, "{} uncertainty cases", cases.len());
+    assert!(cases.iter().all(|c| c["passed"] == true));
+    // Every Monte Carlo result is asked for with a fixed seed (a request
+    // that must be refused gives none); section 10's examples are labelled
+    // as the service's own output.
+    for record in report["cases"].as_array().unwrap() {
+        let asked = &record["inputs"]["uncertainty"];
+        let refused = record["checks"][0]["what"] == "refusal";
+        if asked["method"] == "UNCERTAINTY_METHOD_MONTE_CARLO" && !refused {
+            assert!(asked["seed"].is_string(), "{}", record["id"]);
+        }
+        if record["id"].as_str().unwrap().contains("section-10.") {
+            assert!(
+                record["source"]
+                    .as_str()
+                    .unwrap()
+                    .starts_with("regression values"),
+                "{}",
+                record["id"]
+            );
+        }
+    }
+    let unchecked: Vec<&str> = section["unchecked"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .filter_map(Value::as_str)
+        .collect();
+    assert!(
+        !unchecked.contains(&"oxbind.v1.DissociationService/SaturationFromTension"),
+        "{unchecked:?}"
+    );
 }
 
 /// The real dissociation service, but every Kelman 1966 saturation of

@@ -283,7 +283,7 @@ async fn every_listed_rpc_answers_with_an_interval_a_method_a_budget_and_warning
         "1",
     );
     // Hb 15 g/dL ± 2 %, SaO2 0.97 ± 0.01: u(CaO2)² = (1.34 × 0.97 × 0.3)² +
-    // (1.34 × 15 × 0.01)² (assurance.md A.3, derived): 0.4507 mL/dL.
+    // (1.34 × 15 × 0.01)² (assurance.md A.3, derived): 0.4387 mL/dL.
     let u_arterial = content.uncertainties[0]
         .standard_uncertainty
         .as_ref()

@@ -7,7 +7,8 @@
 //! reference tables, the API reference's worked examples), embedded at build
 //! time: [`sources`]. Each source is read into [`case::Case`]s by one module
 //! of [`cases`]; each door is one module of [`surface`]; the report is
-//! [`report`], laid out by [`report::html`].
+//! [`report`], laid out by [`report::html`], and its statement of what the
+//! instance offers for the uncertainty of its results is [`uncertainty`].
 
 mod case;
 mod cases;
@@ -18,6 +19,7 @@ mod run;
 mod schedule;
 mod sources;
 mod surface;
+mod uncertainty;
 
 use std::{path::PathBuf, time::Duration};
 

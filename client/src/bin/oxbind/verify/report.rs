@@ -33,17 +33,13 @@ object keys in ascending order of their UTF-8 bytes and numbers in shortest roun
 catalog hash covers the models list; the hard-limit hash covers the inputLimits list. Hashes \
 made by the same build of oxbind are comparable.";
 
-/// The uncertainty statement while the service offers none.
-pub(crate) const UNCERTAINTY_NOT_OFFERED: &str = "This instance does not state an uncertainty \
-for its derived values: the contract it speaks has no uncertainty fields yet. When the service \
-offers an uncertainty statement, this section records it for the cases that carry one.";
-
 /// When re-verification falls due besides the interval.
-pub(crate) const ALSO_DUE_WHEN: [&str; 5] = [
+pub(crate) const ALSO_DUE_WHEN: [&str; 6] = [
     "the service version changes",
     "the build commit changes",
     "the catalog hash changes",
     "the hard-limit hash changes",
+    "the uncertainty-profile hash changes",
     "a reported setting changes (run oxbind verify --compare with this report's JSON to see what changed)",
 ];
 
@@ -67,8 +63,9 @@ pub(crate) struct Report {
     pub(crate) settings: Settings,
     /// Each door and whether it answered.
     pub(crate) surfaces: Vec<SurfaceRecord>,
-    /// The uncertainty statement.
-    pub(crate) uncertainty: Uncertainty,
+    /// What the instance offers for the uncertainty of its results, and
+    /// the cases that checked it.
+    pub(crate) uncertainty: super::uncertainty::Uncertainty,
     /// What the cases covered, and what they did not.
     pub(crate) coverage: Coverage,
     /// Counts.
@@ -187,16 +184,6 @@ pub(crate) struct SurfaceRecord {
     pub(crate) cases: usize,
     /// How many of them passed.
     pub(crate) passed: usize,
-}
-
-/// The uncertainty statement.
-#[derive(Debug, Clone, Serialize)]
-#[serde(rename_all = "camelCase")]
-pub(crate) struct Uncertainty {
-    /// Whether the instance offers one.
-    pub(crate) offered: bool,
-    /// The statement.
-    pub(crate) statement: &'static str,
 }
 
 /// What the cases covered.

@@ -1,6 +1,6 @@
 //! One verification run: probe the doors, read the server's identity,
-//! catalog and settings, send every case through every door that answers,
-//! and assemble the report.
+//! catalog (with its uncertainty profiles) and settings, send every case
+//! through every door that answers, and assemble the report.
 
 use std::collections::{BTreeMap, BTreeSet};
 
@@ -12,12 +12,13 @@ use super::{
     contract,
     report::{
         blank_sign_off, CaseFile, CaseRecord, Coverage, MethodCoverage, ModelCoverage, Report,
-        Reverification, Server, Setting, Settings, SurfaceRecord, Tool, Totals, Uncertainty,
-        ALSO_DUE_WHEN, HASH_METHOD, SCHEMA, STATEMENT, UNCERTAINTY_NOT_OFFERED,
+        Reverification, Server, Setting, Settings, SurfaceRecord, Tool, Totals, ALSO_DUE_WHEN,
+        HASH_METHOD, SCHEMA, STATEMENT,
     },
     schedule::Schedule,
     sources,
     surface::{grpc::Grpc, CallFailure, Surface},
+    uncertainty,
 };
 
 /// ListModels, the source of the catalog and the hard-limit table.
@@ -156,10 +157,7 @@ pub(crate) async fn run(input: RunInput<'_>) -> Result<Report, RunError> {
         server,
         settings,
         surfaces: surface_records,
-        uncertainty: Uncertainty {
-            offered: false,
-            statement: UNCERTAINTY_NOT_OFFERED,
-        },
+        uncertainty: uncertainty::section(&catalog, &records),
         coverage,
         totals,
         cases: records,

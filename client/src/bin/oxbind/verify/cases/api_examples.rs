@@ -1,13 +1,16 @@
 //! Cases from the worked examples of the API reference (`proto/API.md`
-//! section 7): each `Request:` JSON block with the `Response:` block that
-//! follows it. Every number printed in the response is checked to the
-//! precision printed (within half a unit of its last digit, as the document
-//! says of itself), and every printed code, unit, identifier and flag
-//! exactly; placeholders (`…`, the compute time, service version and build
-//! commit) and free-text messages, which the contract says not to parse,
-//! are not checked. The values were recorded from the service when the
-//! document was written: these cases show that the deployment answers as
-//! its integrators were told, and are not an independent source.
+//! section 7, the RPCs, and section 10, uncertainty on request): each
+//! `Request:` JSON block with the `Response:` block that follows it. Every
+//! number printed in the response is checked to the precision printed
+//! (within half a unit of its last digit, as the document says of itself),
+//! and every printed code, unit, identifier and flag exactly; placeholders
+//! (`…`, the compute time, service version and build commit) and free-text
+//! messages, which the contract says not to parse, are not checked. The
+//! values were recorded from the service when the document was written:
+//! these cases show that the deployment answers as its integrators were
+//! told, and are not an independent source. Section 10's sources say so in
+//! so many words (regression values); its independent check values are
+//! shared vectors.
 
 use std::collections::BTreeMap;
 
@@ -15,6 +18,7 @@ use serde_json::{value::RawValue, Value};
 
 use crate::verify::{
     case::{file_name, Case, CaseSet, Check, Expect, Family, NotRun, Want},
+    contract,
     sources::EmbeddedFile,
 };
 
@@ -33,6 +37,13 @@ const ELLIPSIS: char = '…';
 /// Significant figures a number printed in exponent form is read to.
 const EXPONENT_SIGNIFICANT_FIGURES: i32 = 4;
 
+/// The sections whose subsections hold worked examples: 7 (the RPCs) and
+/// 10 (uncertainty on request).
+const EXAMPLE_SECTIONS: [&str; 2] = ["7.", "10."];
+
+/// The section whose examples are regression values only.
+const UNCERTAINTY_SECTION: &str = "10.";
+
 /// One fenced JSON block and the label line before it.
 struct Block {
     line: usize,
@@ -42,7 +53,7 @@ struct Block {
     text: String,
 }
 
-/// Every worked example of section 7.
+/// Every worked example of sections 7 and 10.
 pub(crate) fn cases(file: &EmbeddedFile) -> CaseSet {
     let mut set = CaseSet::default();
     let mut pending: Option<Block> = None;
@@ -70,7 +81,12 @@ pub(crate) fn cases(file: &EmbeddedFile) -> CaseSet {
     set
 }
 
-/// The fenced JSON blocks of section 7, with the label before each.
+/// Whether a subsection holds worked examples.
+fn is_example_section(section: &str) -> bool {
+    EXAMPLE_SECTIONS.iter().any(|s| section.starts_with(s))
+}
+
+/// The fenced JSON blocks of sections 7 and 10, with the label before each.
 fn blocks(text: &str) -> Vec<Block> {
     let mut blocks = Vec::new();
     let mut section = String::new();
@@ -84,7 +100,7 @@ fn blocks(text: &str) -> Vec<Block> {
         } else if line.starts_with("## ") {
             section.clear();
             rpc = None;
-        } else if rpc.is_none() && section.starts_with("7.") {
+        } else if rpc.is_none() && is_example_section(&section) {
             rpc = method_named(line);
         }
         if line.trim_start().starts_with("```json") {
@@ -96,12 +112,12 @@ fn blocks(text: &str) -> Vec<Block> {
                 body.push_str(inner);
                 body.push('\n');
             }
-            if section.starts_with("7.") {
+            if is_example_section(&section) {
                 blocks.push(Block {
                     line: index + 1,
                     label: label.clone(),
                     section: section.clone(),
-                    rpc: rpc.clone(),
+                    rpc: rpc.clone().or_else(|| method_in_label(&label)),
                     text: body,
                 });
             }
@@ -119,6 +135,27 @@ fn method_named(line: &str) -> Option<String> {
     let end = line[start..].find('`')? + start;
     let name = &line[start..end];
     name.contains('/').then(|| name.to_owned())
+}
+
+/// The method a label names by its name alone, as section 10's do:
+/// `Request (GasExchange, Monte Carlo ...):` names
+/// `oxbind.v1.OxygenTransportService/GasExchange`, when exactly one method
+/// of the contract has that name.
+fn method_in_label(label: &str) -> Option<String> {
+    let inside = label.split_once('(')?.1;
+    let name = inside.split([',', ')']).next()?.trim();
+    let mut found = oxbind_proto::service_names::ALL
+        .iter()
+        .filter_map(|service| contract::pool().get_service_by_name(service))
+        .flat_map(|service| {
+            service
+                .methods()
+                .filter(|m| m.name() == name)
+                .map(|m| format!("{}/{}", service.full_name(), m.name()))
+                .collect::<Vec<_>>()
+        });
+    let first = found.next()?;
+    found.next().is_none().then_some(first)
 }
 
 fn case(file: &EmbeddedFile, request: &Block, response: &Block) -> Result<Case, String> {
@@ -150,12 +187,22 @@ fn case(file: &EmbeddedFile, request: &Block, response: &Block) -> Result<Case, 
             checks,
             item_errors: Vec::new(),
         },
-        source: format!(
-            "proto/API.md section {}, the worked example on line {} (values recorded from the \
-             service when the document was written; each number within half a unit of its last \
-             printed digit)",
-            request.section, response.line
-        ),
+        source: if request.section.starts_with(UNCERTAINTY_SECTION) {
+            format!(
+                "regression values: proto/API.md section {}, the worked example on line {}, \
+                 recorded from this service's own output when the document was written, not an \
+                 independent check (each number within half a unit of its last printed digit; a \
+                 Monte Carlo result repeats exactly with the seed and draws the request fixes)",
+                request.section, response.line
+            )
+        } else {
+            format!(
+                "proto/API.md section {}, the worked example on line {} (values recorded from the \
+                 service when the document was written; each number within half a unit of its \
+                 last printed digit)",
+                request.section, response.line
+            )
+        },
         note: None,
     })
 }
@@ -236,7 +283,7 @@ mod tests {
     }
 
     #[test]
-    fn every_worked_example_of_section_7_is_a_case() {
+    fn every_worked_example_of_sections_7_and_10_is_a_case() {
         let set = cases(&API_REFERENCE_FILE);
         assert!(set.problems.is_empty(), "{:#?}", set.problems);
         assert!(set.cases.len() >= 10, "{} cases", set.cases.len());
@@ -246,5 +293,32 @@ mod tests {
         for skipped in &set.not_run {
             assert!(skipped.reason.contains("without a request"), "{skipped:?}");
         }
+        // Section 10's examples ask for an uncertainty, and say that their
+        // values are the service's own.
+        let uncertainty: Vec<&Case> = set
+            .cases
+            .iter()
+            .filter(|c| c.id.contains("section-10."))
+            .collect();
+        assert!(uncertainty.len() >= 2, "{} cases", uncertainty.len());
+        for case in uncertainty {
+            assert!(case.request.get("uncertainty").is_some(), "{}", case.id);
+            assert!(case.source.starts_with("regression values"), "{}", case.id);
+        }
+    }
+
+    #[test]
+    fn a_label_names_a_method_by_its_name_alone() {
+        assert_eq!(
+            method_in_label("Request (GasExchange, Monte Carlo with 10⁵ draws and seed 94):")
+                .as_deref(),
+            Some("oxbind.v1.OxygenTransportService/GasExchange")
+        );
+        assert_eq!(
+            method_in_label("Request (SaturationFromTension):").as_deref(),
+            Some("oxbind.v1.DissociationService/SaturationFromTension")
+        );
+        assert_eq!(method_in_label("Request:"), None);
+        assert_eq!(method_in_label("Request (NoSuchMethod):"), None);
     }
 }

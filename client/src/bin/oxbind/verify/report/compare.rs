@@ -1,6 +1,7 @@
 //! `--compare previous.json`: what changed between an earlier report and
-//! this run: the instance's identity and hashes, its settings, the doors,
-//! and every case whose verdict or observed value changed.
+//! this run: the instance's identity and hashes (with the hash of its
+//! uncertainty profiles), its settings, the doors, and every case whose
+//! verdict or observed value changed.
 
 use std::collections::BTreeMap;
 
@@ -24,6 +25,7 @@ pub(crate) fn changes(previous: &Value, current: &Value) -> Result<Vec<String>, 
         ("server.apiVersion", "API version"),
         ("server.catalogSha256", "catalog hash"),
         ("server.hardLimitsSha256", "hard-limit hash"),
+        ("uncertainty.profilesSha256", "uncertainty-profile hash"),
         ("tool.version", "oxbind verify version"),
         ("tool.buildCommit", "oxbind verify build commit"),
     ];
@@ -207,5 +209,17 @@ mod tests {
         let same = report("0.1.0", 0.5, true, "10000");
         assert!(changes(&same, &same).unwrap().is_empty());
         assert!(changes(&json!({"schema": "other"}), &same).is_err());
+    }
+
+    #[test]
+    fn a_changed_uncertainty_profile_is_named() {
+        let mut before = report("0.1.0", 0.5, true, "10000");
+        let mut after = before.clone();
+        before["uncertainty"] = json!({"profilesSha256": "aa"});
+        after["uncertainty"] = json!({"profilesSha256": "bb"});
+        assert_eq!(
+            changes(&before, &after).unwrap(),
+            vec!["uncertainty-profile hash: aa -> bb"]
+        );
     }
 }

@@ -7,7 +7,7 @@ use maud::{html, Markup, PreEscaped, DOCTYPE};
 use serde_json::Value;
 
 use super::{CaseRecord, Report};
-use crate::verify::{case::Family, check::CheckOutcome};
+use crate::verify::{case::Family, check::CheckOutcome, uncertainty::UncertaintyCase};
 
 /// The style sheet: plain on screen, A4 on paper, readable in black and
 /// white (every verdict is a word, not only a colour).
@@ -35,6 +35,12 @@ table.cases { table-layout: fixed; }
 table.cases col.check { width: 27%; } table.cases col.expected { width: 17%; }
 table.cases col.tolerance { width: 11%; } table.cases col.observed { width: 22%; }
 table.cases col.difference { width: 14%; } table.cases col.result { width: 9%; }
+table.profiles { table-layout: fixed; } table.profiles td { overflow-wrap: anywhere; }
+table.ucases { table-layout: fixed; } table.ucases td { overflow-wrap: anywhere; }
+table.ucases col.ucase { width: 66%; }
+table.ucases col.umethod { width: 13%; } table.ucases col.uresult { width: 21%; }
+table.profiles col.profile { width: 21%; } table.profiles col.figure { width: 31%; }
+table.profiles col.psource { width: 25%; } table.profiles col.verification { width: 23%; }
 html { -webkit-print-color-adjust: exact; print-color-adjust: exact; }
 .num { text-align: right; white-space: nowrap; font-variant-numeric: tabular-nums; }
 .verdict-pass { font-weight: bold; }
@@ -75,8 +81,7 @@ pub(crate) fn render(report: &Report) -> String {
                 (doors(report))
                 (settings(report))
                 (reverification(report))
-                h2 { "Uncertainty of the results" }
-                p { (report.uncertainty.statement) }
+                (uncertainty(report))
                 (coverage(report))
                 (failed(report))
                 (sign_off(report))
@@ -176,6 +181,142 @@ fn reverification(report: &Report) -> Markup {
             "), or sooner: whenever"
         }
         ul { @for when in &r.also_due_when { li { (when) } } }
+    }
+}
+
+fn uncertainty(report: &Report) -> Markup {
+    let u = &report.uncertainty;
+    let source_of = |case: &UncertaintyCase| {
+        report
+            .cases
+            .iter()
+            .find(|c| c.id == case.id && c.surface == case.surface)
+            .map_or("", |c| c.source.as_str())
+    };
+    html! {
+        h2 { "Uncertainty of the results" }
+        p { (u.statement) }
+        @if let Some(cautions) = u.cautions { p { strong { "Cautions. " } (cautions) } }
+        @if !u.methods.is_empty() {
+            h3 { "Methods" }
+            table {
+                thead {
+                    tr {
+                        th { "Method" } th { "Published method" } th { "What the service does" }
+                        th.num { "Cases (all doors)" } th.num { "Passed" }
+                    }
+                }
+                tbody {
+                    @for m in &u.methods {
+                        tr {
+                            td { (m.title) br; code { (m.method) } }
+                            td { (m.reference) }
+                            td { (m.how) }
+                            td.num { (m.cases) }
+                            td.num { (m.passed) }
+                        }
+                    }
+                }
+            }
+        }
+        @if let Some(text) = u.model_component { p { (text) } }
+        @if !u.profiles.is_empty() {
+            h3 { "Built-in profiles the server publishes (" (u.profiles.len()) ")" }
+            p {
+                "As the server published them in its ListModels answer, in its order. A request names one by its id, "
+                "or all of a set by the set's name; every use of a built-in figure is warned of in the answer."
+            }
+            table.profiles {
+                colgroup { col.profile; col.figure; col.psource; col.verification; }
+                thead {
+                    tr {
+                        th { "Profile, set and input" } th { "Figure, what it is, and how it becomes a standard uncertainty" }
+                        th { "Source" } th { "Verification" }
+                    }
+                }
+                tbody {
+                    @for p in &u.profiles {
+                        tr {
+                            td {
+                                code { (p.profile_id) } br;
+                                span.source { "set " } code { (p.profile_set) } br;
+                                span.source { "input " } code { (p.input) }
+                            }
+                            td {
+                                (p.figure_text) br;
+                                span.source { (p.description) } br;
+                                span.source { "Conversion: " (p.conversion) }
+                            }
+                            td { (p.source) }
+                            td { (p.verification_meaning) br; span.source { (p.verification_note) } }
+                        }
+                    }
+                }
+            }
+        }
+        p.small { "Profile hash: " code { (u.profiles_sha256) } ". " (u.profiles_hash_method) }
+        h3 { "Uncertainty cases (" (by_case(&u.cases).len()) ", " (u.cases.len()) " runs over the doors)" }
+        @if u.cases.is_empty() {
+            p { "No case of this build asks for an uncertainty." }
+        } @else {
+            p {
+                "The cases of this run that ask for an uncertainty, with their result on each door. Each is shown in full under Every case below "
+                "(inputs, expected values, tolerances, observed values, differences); the source of its expected "
+                "values is repeated here. Values marked as regression values come from this service's own output "
+                "when the source was written, not from an independent check."
+            }
+            table.ucases {
+                colgroup { col.ucase; col.umethod; col.uresult; }
+                thead { tr { th { "Case and the source of its expected values" } th { "Method asked" } th { "Result on each door" } } }
+                tbody {
+                    @for doors in by_case(&u.cases) {
+                        tr {
+                            td { strong { (doors[0].id) } br; span.source { (source_of(doors[0])) } }
+                            td { (doors[0].methods.iter().map(|m| method_words(m)).collect::<Vec<_>>().join(", ")) }
+                            td {
+                                @for (i, case) in doors.iter().enumerate() {
+                                    @if i > 0 { br; }
+                                    (case.surface) ": "
+                                    @if case.passed { span."verdict-pass" { "passed" } } @else { span."verdict-fail" { "FAILED" } }
+                                }
+                            }
+                        }
+                    }
+                }
+            }
+        }
+        @if !u.unchecked.is_empty() {
+            p {
+                "No case of this build asks for an uncertainty from "
+                @for (i, rpc) in u.unchecked.iter().enumerate() {
+                    @if i > 0 { ", " }
+                    code { (rpc) }
+                }
+                ": the uncertainty results of those methods are not verified by this report."
+            }
+        }
+    }
+}
+
+/// The uncertainty cases grouped by case, in order of first appearance,
+/// each with its runs on every door.
+fn by_case(cases: &[UncertaintyCase]) -> Vec<Vec<&UncertaintyCase>> {
+    let mut groups: Vec<Vec<&UncertaintyCase>> = Vec::new();
+    for case in cases {
+        match groups.iter_mut().find(|g| g[0].id == case.id) {
+            Some(group) => group.push(case),
+            None => groups.push(vec![case]),
+        }
+    }
+    groups
+}
+
+/// An `UncertaintyMethod` value in words.
+fn method_words(method: &str) -> &str {
+    match method {
+        "UNCERTAINTY_METHOD_FIRST_ORDER" => "first order",
+        "UNCERTAINTY_METHOD_MONTE_CARLO" => "Monte Carlo",
+        other => other,
     }
 }
 
