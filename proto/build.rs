@@ -21,12 +21,13 @@
 use std::{env, fs, path::PathBuf};
 
 /// The contract's files, relative to the include directory.
-const CONTRACT_FILES: [&str; 5] = [
+const CONTRACT_FILES: [&str; 6] = [
     "oxbind/v1/common.proto",
     "oxbind/v1/dissociation.proto",
     "oxbind/v1/transport.proto",
     "oxbind/v1/catalog.proto",
     "oxbind/v1/uncertainty.proto",
+    "oxbind/v1/consistency.proto",
 ];
 
 /// The googleapis error details, generated beside the contract (not part of

@@ -24,6 +24,11 @@ use tonic_health::pb::{
     health_check_response::ServingStatus, health_client::HealthClient, HealthCheckRequest,
 };
 
+use oxbind_proto::v1::{
+    check_blood_gas_result, consistency_service_client::ConsistencyServiceClient,
+    BatchCheckBloodGasRequest, CheckBloodGasRequest, CheckBloodGasResponse,
+};
+
 use crate::{
     balance::{self, Balancing, ResolveFuture},
     ClientError, RetryPolicy,
@@ -351,6 +356,7 @@ pub struct OxbindClient {
     health: HealthClient<Channel>,
     retry: RetryPolicy,
     call_timeout: Option<Duration>,
+    consistency: ConsistencyServiceClient<Channel>,
 }
 
 /// Define a retried unary call on one of the stubs.
@@ -387,6 +393,7 @@ impl OxbindClient {
             dissociation: DissociationServiceClient::new(channel.clone()),
             transport: OxygenTransportServiceClient::new(channel.clone()),
             catalog: ModelCatalogServiceClient::new(channel.clone()),
+            consistency: ConsistencyServiceClient::new(channel.clone()),
             health: HealthClient::new(channel),
             retry,
             call_timeout: None,
@@ -482,6 +489,11 @@ impl OxbindClient {
         /// The server's identity and the settings it runs with
         /// (`GetServerSettings`).
         get_server_settings, catalog, GetServerSettingsRequest, GetServerSettingsResponse
+    );
+    unary!(
+        /// The consistency findings of one blood-gas sample (`CheckBloodGas`):
+        /// one finding per check, never a refusal for being discordant.
+        check_blood_gas, consistency, CheckBloodGasRequest, CheckBloodGasResponse
     );
 
     /// Saturation at `po2` under `conditions`, with the server's default
@@ -636,6 +648,39 @@ impl OxbindClient {
             &response.shared_provenance,
             placement,
             |r, provenance| r.provenance = Some(provenance),
+        ))
+    }
+
+    /// The consistency findings of many samples in one call
+    /// (`BatchCheckBloodGas`): one result per request, in order; a refused
+    /// item carries its [`ClientError`] and the rest are still checked. The
+    /// outer error is for the call as a whole (unreachable server, batch too
+    /// large).
+    pub async fn batch_check_blood_gas(
+        &self,
+        requests: Vec<CheckBloodGasRequest>,
+    ) -> Result<Vec<ItemResult<CheckBloodGasResponse>>, ClientError> {
+        let stub = self.consistency.clone();
+        let request = BatchCheckBloodGasRequest { requests };
+        let response = self
+            .retried(move || {
+                let mut stub = stub.clone();
+                let request = request.clone();
+                async move { stub.batch_check_blood_gas(request).await }
+            })
+            .await?;
+        let items = response.results.into_iter().map(|item| {
+            let outcome = item.result.map(|result| match result {
+                check_blood_gas_result::Result::Response(r) => Ok(r),
+                check_blood_gas_result::Result::Error(e) => Err(e),
+            });
+            (outcome, 0)
+        });
+        Ok(item_results(
+            items,
+            &[],
+            ProvenancePlacement::EachItem,
+            |_, _| {},
         ))
     }
 

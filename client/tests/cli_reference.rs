@@ -11,11 +11,14 @@ use prost_reflect::{DescriptorPool, Kind, MessageDescriptor};
 
 const README: &str = include_str!("../../README.md");
 
-/// Messages documented once, in their own table, wherever they appear.
-const SHARED: [&str; 3] = [
+/// Messages documented once, in their own table, wherever they appear
+/// (`InputUncertainty`, a figure for one input, in the UncertaintyRequest
+/// table's `inputs` row: `--u` on every command, `oxbind check` included).
+const SHARED: [&str; 4] = [
     "oxbind.v1.BloodConditions",
     "oxbind.v1.HillParameters",
     "oxbind.v1.UncertaintyRequest",
+    "oxbind.v1.InputUncertainty",
 ];
 
 fn pool() -> DescriptorPool {

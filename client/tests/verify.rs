@@ -14,6 +14,7 @@ use std::{
 };
 
 use oxbind_client::v1::{
+    consistency_service_server::ConsistencyServiceServer,
     dissociation_service_server::{DissociationService, DissociationServiceServer},
     model_catalog_service_client::ModelCatalogServiceClient,
     model_catalog_service_server::ModelCatalogServiceServer,
@@ -27,7 +28,7 @@ use oxbind_client::v1::{
     TensionFromSaturationResponse,
 };
 use oxbind_service::{
-    grpc::{CatalogApi, DissociationApi, TransportApi},
+    grpc::{CatalogApi, ConsistencyApi, DissociationApi, TransportApi},
     Config,
 };
 use oxbind_tests::TestServer;
@@ -367,6 +368,9 @@ async fn start_stand_in() -> TestServer {
             .add_service(OxygenTransportServiceServer::new(TransportApi::new()))
             .add_service(ModelCatalogServiceServer::new(CatalogApi::from_config(
                 &config,
+            )))
+            .add_service(ConsistencyServiceServer::new(ConsistencyApi::new(
+                config.max_batch_items,
             )))
             .serve_with_incoming_shutdown(TcpIncoming::from(listener), shutdown)
             .await

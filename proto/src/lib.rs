@@ -54,7 +54,7 @@ pub use timestamp::Timestamp;
 pub const FILE_DESCRIPTOR_SET: &[u8] =
     include_bytes!(concat!(env!("OUT_DIR"), "/oxbind_v1_descriptor.bin"));
 
-/// Fully qualified names of the three v1 services, as health checking and
+/// Fully qualified names of the v1 services, as health checking and
 /// reflection report them.
 pub mod service_names {
     /// `oxbind.v1.DissociationService`.
@@ -63,8 +63,10 @@ pub mod service_names {
     pub const OXYGEN_TRANSPORT: &str = "oxbind.v1.OxygenTransportService";
     /// `oxbind.v1.ModelCatalogService`.
     pub const MODEL_CATALOG: &str = "oxbind.v1.ModelCatalogService";
-    /// All three, in a stable order.
-    pub const ALL: [&str; 3] = [DISSOCIATION, OXYGEN_TRANSPORT, MODEL_CATALOG];
+    /// `oxbind.v1.ConsistencyService`.
+    pub const CONSISTENCY: &str = "oxbind.v1.ConsistencyService";
+    /// All of them, in a stable order.
+    pub const ALL: [&str; 4] = [DISSOCIATION, OXYGEN_TRANSPORT, MODEL_CATALOG, CONSISTENCY];
 }
 
 #[cfg(test)]
@@ -73,7 +75,7 @@ mod tests {
     use prost::Message;
 
     #[test]
-    fn descriptor_set_decodes_and_lists_the_three_services() {
+    fn descriptor_set_decodes_and_lists_every_service() {
         let set = prost_types::FileDescriptorSet::decode(FILE_DESCRIPTOR_SET)
             .expect("the embedded descriptor set decodes");
         let mut services: Vec<String> = set
@@ -112,6 +114,6 @@ mod tests {
                 }
             }
         }
-        assert!(count >= 11, "expected every v1 RPC, found {count}");
+        assert!(count >= 13, "expected every v1 RPC, found {count}");
     }
 }

@@ -178,6 +178,78 @@ SEEDS = {
         + enum(13, 2),
         "gas-bad": b"\x01" + quantity(1, 150.0, "%") + double(6, math.nan),
     },
+    "consistency": {
+        # selector 0: CheckBloodGasRequest, sample = field 1 (BloodGasResults)
+        "normal-arterial": b"\x00"
+        + nested(
+            1,
+            quantity(1, 94.0, "mm[Hg]")
+            + quantity(2, 39.0, "mm[Hg]")
+            + double(3, 7.41)
+            + quantity(4, 36.8, "Cel")
+            + enum(6, 1)
+            + double(7, 0.968)
+            + quantity(9, 1.2, "%")
+            + quantity(10, 0.6, "%")
+            + quantity(11, 13.9, "g/dL")
+            + double(13, 0.97)
+            + quantity(14, 21.0, "%")
+            + quantity(15, 752.0, "mm[Hg]")
+            + quantity(16, 25.4, "mmol/L")
+            + enum(17, 2)
+            + quantity(18, 7.8, "10*9/L")
+            + nested(19, double(1, 7.41) + quantity(2, 39.0, "mm[Hg]") + quantity(3, 94.0, "mm[Hg]")),
+        ),
+        "air-uncertainty-rule-si": b"\x00"
+        + nested(1, quantity(1, 16.1, "kPa") + quantity(2, 4.1, "kPa") + double(3, 7.47) + enum(6, 1) + double(13, 0.91) + quantity(14, 0.21, "1"))
+        # uncertainty = field 2 (ConsistencyUncertainty): inputs = 4
+        # (InputUncertainty: field 1, standard_uncertainty 2, bound 3,
+        # profile_id 4), profile_sets = 5, no_built_in_figures = 2,
+        # coverage_probability = 3
+        + nested(
+            2,
+            nested(4, string(1, "sample.spo2_fraction") + nested(2, quantity(1, 2.0, "%")))
+            + nested(4, string(1, "sample.po2") + string(4, "clia-2024-po2"))
+            + nested(4, string(1, "sample.fio2") + nested(3, nested(1, quantity(1, 2.0, "%")) + enum(2, 3)))
+            + string(5, "analytical-goal-harding-fraser-1987")
+            + double(3, 0.99),
+        )
+        + enum(3, 2)
+        + enum(5, 2),
+        "patient-temperature-fractional": b"\x00"
+        + nested(
+            1,
+            quantity(1, 61.0, "mm[Hg]")
+            + quantity(2, 33.6, "mm[Hg]")
+            + double(3, 7.46)
+            + quantity(4, 33.0, "Cel")
+            + enum(5, 2)
+            + double(7, 0.86)
+            + enum(8, 2)
+            + quantity(9, 0.05, "1")
+            + quantity(10, 0.01, "1")
+            + quantity(11, 9.0, "mmol/L")
+            + nested(19, double(1, 7.40) + quantity(2, 40.0, "mm[Hg]") + quantity(3, 80.0, "mm[Hg]")),
+        )
+        + enum(4, 7),
+        "bad": b"\x00" + nested(1, quantity(1, math.nan, "mmHg") + double(3, 9.2) + quantity(16, 24.0, "mmol/L") + enum(5, 2)),
+        "bad-figures": b"\x00"
+        + nested(1, quantity(1, 80.0, "mm[Hg]") + double(3, 7.4) + double(13, 0.95))
+        + nested(
+            2,
+            nested(4, string(1, "sample.temperature") + nested(2, quantity(1, 0.1, "Cel")))
+            + nested(4, string(1, "sample.spo2_fraction") + nested(3, nested(1, quantity(1, 0.02, "1")) + enum(2, 2) + double(4, 1e-300)))
+            + nested(4, string(1, "sample.results_at_37_cel.ph") + string(4, "clia-2024-po2"))
+            + string(5, "no-such-set")
+            + enum(2, 1)
+            + double(3, math.inf),
+        ),
+        # selector 1: BatchCheckBloodGasRequest, requests = field 1
+        "batch": b"\x01"
+        + nested(1, nested(1, quantity(1, 38.0, "mm[Hg]") + double(3, 7.36) + enum(6, 1) + double(7, 0.71) + double(13, 0.96)))
+        + nested(1, nested(1, quantity(1, -3.0, "mm[Hg]"))),
+        "batch-empty": b"\x01",
+    },
 }
 
 

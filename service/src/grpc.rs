@@ -1,4 +1,4 @@
-//! The gRPC door: tonic's service traits for the three v1 services. Each
+//! The gRPC door: tonic's service traits for the v1 services. Each
 //! method is one call into the transport-neutral [`crate::api`] function of
 //! its RPC; a refusal becomes a gRPC status in one place,
 //! [`InvalidRequest::into_status`] (`google.rpc.Status` in the
@@ -27,6 +27,12 @@ use crate::{
         transport,
     },
     config::Config,
+};
+
+use crate::api::consistency;
+use oxbind_proto::v1::{
+    consistency_service_server::ConsistencyService, BatchCheckBloodGasRequest,
+    BatchCheckBloodGasResponse, CheckBloodGasRequest, CheckBloodGasResponse,
 };
 
 /// The answer of one RPC function as tonic wants it.
@@ -194,5 +200,39 @@ impl ModelCatalogService for CatalogApi {
             request.get_ref(),
             &self.settings,
         )))
+    }
+}
+
+/// `oxbind.v1.ConsistencyService` over gRPC.
+#[derive(Debug, Clone)]
+pub struct ConsistencyApi {
+    max_batch_items: usize,
+}
+
+impl ConsistencyApi {
+    /// A handler refusing batches of more than `max_batch_items` items (and
+    /// of more than [`consistency::MAX_BATCH_ITEMS`] in any case).
+    pub fn new(max_batch_items: usize) -> Self {
+        Self { max_batch_items }
+    }
+}
+
+#[tonic::async_trait]
+impl ConsistencyService for ConsistencyApi {
+    async fn check_blood_gas(
+        &self,
+        request: Request<CheckBloodGasRequest>,
+    ) -> Result<Response<CheckBloodGasResponse>, Status> {
+        answer(consistency::compute_check_blood_gas(request.get_ref()))
+    }
+
+    async fn batch_check_blood_gas(
+        &self,
+        request: Request<BatchCheckBloodGasRequest>,
+    ) -> Result<Response<BatchCheckBloodGasResponse>, Status> {
+        answer(consistency::compute_batch_check_blood_gas(
+            request.get_ref(),
+            self.max_batch_items,
+        ))
     }
 }

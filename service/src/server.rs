@@ -26,6 +26,7 @@ use std::{convert::Infallible, future::Future, time::Duration};
 use http::{Request, Response};
 use oxbind_proto::{
     service_names,
+    v1::consistency_service_server::ConsistencyServiceServer,
     v1::{
         dissociation_service_server::DissociationServiceServer,
         model_catalog_service_server::ModelCatalogServiceServer,
@@ -45,6 +46,7 @@ use tower::{
 use crate::{
     api::server_settings::ReportedSettings,
     config::Config,
+    grpc::ConsistencyApi,
     grpc::{CatalogApi, DissociationApi, TransportApi},
     http::{connect, fhir, DispatchLayer},
     layers::{
@@ -104,11 +106,12 @@ impl std::error::Error for ServeError {}
 
 /// Every name health checking reports: the whole server (`""`) and each v1
 /// service.
-pub const HEALTH_NAMES: [&str; 4] = [
+pub const HEALTH_NAMES: [&str; 5] = [
     "",
     service_names::DISSOCIATION,
     service_names::OXYGEN_TRANSPORT,
     service_names::MODEL_CATALOG,
+    service_names::CONSISTENCY,
 ];
 
 /// A per-request service as the listeners serve it: any request in, an
@@ -183,6 +186,11 @@ where
         )
         .add_service(
             ModelCatalogServiceServer::new(CatalogApi::from_config(&config))
+                .max_decoding_message_size(decode)
+                .max_encoding_message_size(encode),
+        )
+        .add_service(
+            ConsistencyServiceServer::new(ConsistencyApi::new(config.max_batch_items))
                 .max_decoding_message_size(decode)
                 .max_encoding_message_size(encode),
         );

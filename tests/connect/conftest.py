@@ -22,6 +22,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "pyshared"))
 
 from oxbind_testing import (  # noqa: E402  (after the path is set)
     PROTO_DIR,
+    V1_SERVICE_FILES,
     V1_SERVICES,
     server_process,
 )
@@ -34,7 +35,7 @@ PROTOC_GEN_CONNECTRPC = Path(
 )
 
 # Each v1 service's file stem under proto/oxbind/v1/.
-SERVICE_FILES = dict(zip(V1_SERVICES, ("dissociation", "transport", "catalog")))
+SERVICE_FILES = dict(zip(V1_SERVICES, V1_SERVICE_FILES))
 
 
 def method_attribute(method_name):

@@ -19,6 +19,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "pyshared"))
 from oxbind_testing import (  # noqa: E402  (after the path is set)
     PROTO_DIR,
     STARTUP_TIMEOUT_S,
+    V1_SERVICE_FILES,
     V1_SERVICES,
     load_vectors,
     server_process,
@@ -68,7 +69,7 @@ def stubs(tmp_path_factory):
     assert protoc.main(args) == 0, f"protoc failed: {' '.join(args)}"
     sys.path.insert(0, str(out))
     modules = {}
-    for service, stem in zip(V1_SERVICES, ("dissociation", "transport", "catalog")):
+    for service, stem in zip(V1_SERVICES, V1_SERVICE_FILES):
         modules[service] = (
             importlib.import_module(f"oxbind.v1.{stem}_pb2"),
             importlib.import_module(f"oxbind.v1.{stem}_pb2_grpc"),

@@ -27,12 +27,15 @@ SERVER_BIN = Path(
 STARTUP_TIMEOUT_S = 30.0
 SHUTDOWN_TIMEOUT_S = 15.0
 
-# The three v1 services, fully qualified (design.md).
+# The v1 services, fully qualified (design.md), and the stem of the .proto
+# file that declares each.
 V1_SERVICES = (
     "oxbind.v1.DissociationService",
     "oxbind.v1.OxygenTransportService",
     "oxbind.v1.ModelCatalogService",
+    "oxbind.v1.ConsistencyService",
 )
+V1_SERVICE_FILES = ("dissociation", "transport", "catalog", "consistency")
 
 # Every refusal's ErrorInfo carries this domain (design.md, AIP-193).
 ERROR_DOMAIN = "oxbind.v1"

@@ -986,7 +986,9 @@ fallbacks, some not verified at their source (see uncertainty_profiles), and a l
 imprecision and a device's own accuracy describe its results better. Pulse-oximetry bias by \
 skin pigmentation (and by low perfusion or dyshaemoglobins) is not included in any uncertainty \
 unless the caller gives it as a figure: the pulse-oximeter accuracy figures come from \
-laboratory studies in healthy volunteers."
+laboratory studies in healthy volunteers. Consistency findings (ConsistencyService) support the \
+laboratory's review of a result and do not reject results: local laboratory policy decides what \
+happens to a discordant sample."
     );
     // The limits table of API.md: (input, min, min_inclusive, max, max_inclusive, unit,
     // error reason).
@@ -1261,6 +1263,24 @@ laboratory studies in healthy volunteers."
                 "TRAPEZOID_RATIO_OUT_OF_RANGE"
             ),
             (
+                "bicarbonate",
+                0.0,
+                false,
+                100.0,
+                true,
+                "mmol/L",
+                "BICARBONATE_OUT_OF_RANGE"
+            ),
+            (
+                "white_cell_count",
+                0.0,
+                true,
+                1000.0,
+                true,
+                "10*9/L",
+                "WHITE_CELL_COUNT_OUT_OF_RANGE"
+            ),
+            (
                 "batch_items",
                 1.0,
                 true,
@@ -1295,7 +1315,7 @@ laboratory studies in healthy volunteers."
         paths
     };
     let mut ph = conditions_paths("ph", true);
-    ph.push("ph".to_owned());
+    ph.extend(["ph", "sample.ph", "sample.results_at_37_cel.ph"].map(str::to_owned));
     let mut pressure = vec!["po2".to_owned(), "pco2".to_owned()];
     pressure.extend(
         [
@@ -1309,6 +1329,8 @@ laboratory studies in healthy volunteers."
             "hill.p50",
             "arterial.hill.p50",
             "venous.hill.p50",
+            "sample.po2",
+            "sample.results_at_37_cel.po2",
         ]
         .map(str::to_owned),
     );
@@ -1318,6 +1340,7 @@ laboratory studies in healthy volunteers."
             "measured_temperature",
             "target_temperature",
             "body_temperature",
+            "sample.temperature",
         ]
         .map(str::to_owned),
     );
@@ -1334,12 +1357,20 @@ laboratory studies in healthy volunteers."
         dyshemoglobin.push(format!("{path}cohb"));
         dyshemoglobin.push(format!("{path}methb"));
     }
+    dyshemoglobin.extend(["sample.cohb", "sample.methb"].map(str::to_owned));
+    let mut conditions_pco2 = conditions_paths("pco2", true);
+    conditions_pco2.extend(["sample.pco2", "sample.results_at_37_cel.pco2"].map(str::to_owned));
+    let mut hbf = conditions_paths("hbf", true);
+    hbf.push("sample.hbf".to_owned());
     let owned = |v: &[&str]| v.iter().map(|s| (*s).to_owned()).collect::<Vec<String>>();
     let expected_fields: Vec<(&str, Vec<String>)> = vec![
         ("ph", ph),
         ("pressure", pressure),
-        ("conditions_pco2", conditions_paths("pco2", true)),
-        ("barometric_pressure", owned(&["barometric_pressure"])),
+        ("conditions_pco2", conditions_pco2),
+        (
+            "barometric_pressure",
+            owned(&["barometric_pressure", "sample.barometric_pressure"]),
+        ),
         ("temperature", temperature),
         (
             "saturation_open",
@@ -1347,15 +1378,19 @@ laboratory studies in healthy volunteers."
         ),
         (
             "saturation_measured",
-            owned(&["arterial.saturation_fraction", "venous.saturation_fraction"]),
+            owned(&[
+                "arterial.saturation_fraction",
+                "venous.saturation_fraction",
+                "sample.so2_fraction",
+            ]),
         ),
-        ("spo2", owned(&["spo2_fraction"])),
+        ("spo2", owned(&["spo2_fraction", "sample.spo2_fraction"])),
         ("dyshemoglobin_fraction", dyshemoglobin),
-        ("hbf_fraction", conditions_paths("hbf", true)),
+        ("hbf_fraction", hbf),
         ("dpg", conditions_paths("dpg", true)),
         ("base_excess", conditions_paths("base_excess", true)),
-        ("hemoglobin", owned(&["hemoglobin"])),
-        ("fio2", owned(&["fio2"])),
+        ("hemoglobin", owned(&["hemoglobin", "sample.hemoglobin"])),
+        ("fio2", owned(&["fio2", "sample.fio2"])),
         (
             "hill_n",
             owned(&["hill.n", "arterial.hill.n", "venous.hill.n"]),
@@ -1403,6 +1438,8 @@ laboratory studies in healthy volunteers."
             "uncertainty_trapezoid_ratio",
             owned(&["uncertainty.inputs[].bound.trapezoid_top_ratio"]),
         ),
+        ("bicarbonate", owned(&["sample.bicarbonate"])),
+        ("white_cell_count", owned(&["sample.white_cell_count"])),
         ("batch_items", owned(&["requests"])),
     ];
     let expected_fields: Vec<(&str, Vec<&str>)> = expected_fields

@@ -13,11 +13,12 @@ use tonic_reflection::pb::v1::{
 
 /// Names health checking must report SERVING once the server is ready
 /// (grpc.health.v1 convention: "" is the whole server).
-const EXPECTED_SERVING: [&str; 4] = [
+const EXPECTED_SERVING: [&str; 5] = [
     "",
     "oxbind.v1.DissociationService",
     "oxbind.v1.OxygenTransportService",
     "oxbind.v1.ModelCatalogService",
+    "oxbind.v1.ConsistencyService",
 ];
 
 #[tokio::test]
@@ -84,6 +85,7 @@ async fn reflection_lists_every_service() {
     for expected in [
         "grpc.health.v1.Health",
         "grpc.reflection.v1.ServerReflection",
+        "oxbind.v1.ConsistencyService",
         "oxbind.v1.DissociationService",
         "oxbind.v1.ModelCatalogService",
         "oxbind.v1.OxygenTransportService",

@@ -13,6 +13,7 @@
 use std::collections::BTreeSet;
 
 use oxbind_client::v1::{
+    consistency_service_client::ConsistencyServiceClient,
     dissociation_service_client::DissociationServiceClient,
     model_catalog_service_client::ModelCatalogServiceClient,
     oxygen_transport_service_client::OxygenTransportServiceClient,
@@ -88,6 +89,17 @@ async fn call(channel: Channel, rpc: &str, body: &[u8]) -> Result<Vec<u8>, tonic
         }
         "oxbind.v1.ModelCatalogService/GetServerSettings" => {
             unary!(Catalog, channel, get_server_settings, body)
+        }
+        "oxbind.v1.ConsistencyService/CheckBloodGas" => {
+            unary!(ConsistencyServiceClient, channel, check_blood_gas, body)
+        }
+        "oxbind.v1.ConsistencyService/BatchCheckBloodGas" => {
+            unary!(
+                ConsistencyServiceClient,
+                channel,
+                batch_check_blood_gas,
+                body
+            )
         }
         other => panic!("no client call for {other}"),
     }

@@ -52,6 +52,10 @@ pub mod names {
     pub const GAS_EXCHANGE: &str = ".oxbind.v1.GasExchangeResponse";
     /// `oxbind.v1.ListModelsResponse`.
     pub const LIST_MODELS: &str = ".oxbind.v1.ListModelsResponse";
+    /// `oxbind.v1.CheckBloodGasResponse`.
+    pub const CONSISTENCY: &str = ".oxbind.v1.CheckBloodGasResponse";
+    /// `oxbind.v1.BatchCheckBloodGasResponse`.
+    pub const BATCH_CONSISTENCY: &str = ".oxbind.v1.BatchCheckBloodGasResponse";
     /// `google.rpc.Status`.
     pub const RPC_STATUS: &str = ".google.rpc.Status";
 }

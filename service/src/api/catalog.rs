@@ -25,7 +25,9 @@ fallbacks, some not verified at their source (see uncertainty_profiles), and a l
 imprecision and a device's own accuracy describe its results better. Pulse-oximetry bias by skin \
 pigmentation (and by low perfusion or dyshaemoglobins) is not included in any uncertainty unless \
 the caller gives it as a figure: the pulse-oximeter accuracy figures come from laboratory studies \
-in healthy volunteers.";
+in healthy volunteers. Consistency findings (ConsistencyService) support the laboratory's review \
+of a result and do not reject results: local laboratory policy decides what happens to a \
+discordant sample.";
 
 /// Source of the adult Hill preset.
 const ADULT_PRESET_SOURCE: &str = "n 2.7: Severinghaus JW, J Appl Physiol 1979;46(3):599-602 \

@@ -102,6 +102,8 @@ pub const PH: HardLimit = HardLimit {
         "arterial.conditions.ph",
         "venous.conditions.ph",
         "ph",
+        "sample.ph",
+        "sample.results_at_37_cel.ph",
     ],
     unit: "[pH]",
     unit_key: "ph",
@@ -129,6 +131,8 @@ pub const PRESSURE: HardLimit = HardLimit {
         "hill.p50",
         "arterial.hill.p50",
         "venous.hill.p50",
+        "sample.po2",
+        "sample.results_at_37_cel.po2",
     ],
     unit: "mm[Hg]",
     unit_key: "mmhg",
@@ -151,6 +155,8 @@ pub const CONDITIONS_PCO2: HardLimit = HardLimit {
         "pairs[].conditions.pco2",
         "arterial.conditions.pco2",
         "venous.conditions.pco2",
+        "sample.pco2",
+        "sample.results_at_37_cel.pco2",
     ],
     unit: "mm[Hg]",
     unit_key: "mmhg",
@@ -165,7 +171,7 @@ pub const CONDITIONS_PCO2: HardLimit = HardLimit {
 /// Barometric pressure.
 pub const BAROMETRIC_PRESSURE: HardLimit = HardLimit {
     input: "barometric_pressure",
-    fields: &["barometric_pressure"],
+    fields: &["barometric_pressure", "sample.barometric_pressure"],
     unit: "mm[Hg]",
     unit_key: "mmhg",
     min: 150.0,
@@ -188,6 +194,7 @@ pub const TEMPERATURE: HardLimit = HardLimit {
         "measured_temperature",
         "target_temperature",
         "body_temperature",
+        "sample.temperature",
     ],
     unit: "Cel",
     unit_key: "celsius",
@@ -220,6 +227,7 @@ pub const SATURATION_MEASURED: HardLimit = HardLimit {
     fields: &[
         "arterial.saturation_fraction",
         "venous.saturation_fraction",
+        "sample.so2_fraction",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -234,7 +242,7 @@ pub const SATURATION_MEASURED: HardLimit = HardLimit {
 /// A pulse-oximetry saturation.
 pub const SPO2: HardLimit = HardLimit {
     input: "spo2",
-    fields: &["spo2_fraction"],
+    fields: &["spo2_fraction", "sample.spo2_fraction"],
     unit: "1",
     unit_key: "fraction",
     min: 0.0,
@@ -264,6 +272,8 @@ pub const DYSHEMOGLOBIN_FRACTION: HardLimit = HardLimit {
         "arterial.methb",
         "venous.cohb",
         "venous.methb",
+        "sample.cohb",
+        "sample.methb",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -284,6 +294,7 @@ pub const HBF_FRACTION: HardLimit = HardLimit {
         "pairs[].conditions.hbf",
         "arterial.conditions.hbf",
         "venous.conditions.hbf",
+        "sample.hbf",
     ],
     unit: "1",
     unit_key: "fraction",
@@ -339,7 +350,7 @@ pub const BASE_EXCESS: HardLimit = HardLimit {
 /// Total haemoglobin.
 pub const HEMOGLOBIN: HardLimit = HardLimit {
     input: "hemoglobin",
-    fields: &["hemoglobin"],
+    fields: &["hemoglobin", "sample.hemoglobin"],
     unit: "g/dL",
     unit_key: "g_per_dl",
     min: 0.0,
@@ -353,7 +364,7 @@ pub const HEMOGLOBIN: HardLimit = HardLimit {
 /// Inspired oxygen fraction.
 pub const FIO2: HardLimit = HardLimit {
     input: "fio2",
-    fields: &["fio2"],
+    fields: &["fio2", "sample.fio2"],
     unit: "1",
     unit_key: "fraction",
     min: 0.05,
@@ -623,8 +634,36 @@ pub const UNCERTAINTY_TRAPEZOID_RATIO: HardLimit = HardLimit {
     reason: "a trapezoid's top lies between a point (0, the triangle) and its whole base (1, the rectangle)",
 };
 
+/// Bicarbonate (or total CO2) of a blood-gas sample.
+pub const BICARBONATE: HardLimit = HardLimit {
+    input: "bicarbonate",
+    fields: &["sample.bicarbonate"],
+    unit: "mmol/L",
+    unit_key: "mmol_per_l",
+    min: 0.0,
+    min_inclusive: false,
+    max: 100.0,
+    max_inclusive: true,
+    error_reason: "BICARBONATE_OUT_OF_RANGE",
+    reason: "a bicarbonate or total CO2 must be positive; above 100 mmol/L no plasma value is plausible and the value is a unit error (our judgement)",
+};
+
+/// White-cell count.
+pub const WHITE_CELL_COUNT: HardLimit = HardLimit {
+    input: "white_cell_count",
+    fields: &["sample.white_cell_count"],
+    unit: "10*9/L",
+    unit_key: "e9_per_l",
+    min: 0.0,
+    min_inclusive: true,
+    max: 1000.0,
+    max_inclusive: true,
+    error_reason: "WHITE_CELL_COUNT_OUT_OF_RANGE",
+    reason: "a count cannot be negative; above 1000 x 10^9/L is beyond any reported leukocytosis and the value is a unit error (our judgement)",
+};
+
 /// Every hard limit, in the order the catalog lists them.
-pub const ALL: [&HardLimit; 31] = [
+pub const ALL: [&HardLimit; 33] = [
     &PH,
     &PRESSURE,
     &CONDITIONS_PCO2,
@@ -656,4 +695,6 @@ pub const ALL: [&HardLimit; 31] = [
     &UNCERTAINTY_BOUND_COVERAGE,
     &UNCERTAINTY_COVERAGE_FACTOR,
     &UNCERTAINTY_TRAPEZOID_RATIO,
+    &BICARBONATE,
+    &WHITE_CELL_COUNT,
 ];

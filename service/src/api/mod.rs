@@ -7,6 +7,7 @@
 //! place, from [`status`]'s `google.rpc.Status`.
 
 pub mod catalog;
+pub mod consistency;
 pub mod dissociation;
 pub mod field_path;
 pub mod limits;

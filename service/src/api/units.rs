@@ -32,6 +32,8 @@ pub enum QuantityKind {
     OxygenContent,
     /// Oxygen flow (delivery, consumption; output only); engine unit mL/min.
     OxygenFlow,
+    /// A blood cell count (white cells); engine unit 10⁹/L.
+    CellCount,
 }
 
 /// The UCUM code of the engine unit of each kind, used in error metadata
@@ -47,6 +49,7 @@ pub fn engine_unit(kind: QuantityKind) -> &'static str {
         QuantityKind::BloodFlow => "L/min",
         QuantityKind::OxygenContent => "mL/dL",
         QuantityKind::OxygenFlow => "mL/min",
+        QuantityKind::CellCount => "10*9/L",
     }
 }
 
@@ -84,6 +87,7 @@ pub fn accepted_units(kind: QuantityKind) -> &'static [&'static str] {
         QuantityKind::BloodFlow => &["L/min", "mL/min"],
         QuantityKind::OxygenContent => &["mL/dL", "mmol/L"],
         QuantityKind::OxygenFlow => &["mL/min", "mmol/min"],
+        QuantityKind::CellCount => &["10*9/L", "10*3/uL", "/nL"],
     }
 }
 
@@ -141,6 +145,8 @@ pub fn to_engine(value: f64, unit: &str, kind: QuantityKind) -> Result<f64, Unit
         (K::OxygenContent, "mmol/L" | "mmol/l") => value * OXYGEN_ML_PER_MMOL / 10.0,
         (K::OxygenFlow, "mL/min" | "ml/min") => value,
         (K::OxygenFlow, "mmol/min") => value * OXYGEN_ML_PER_MMOL,
+        // 10³ per µL and 1 per nL are both 10⁹ per L (UCUM prefixes).
+        (K::CellCount, "10*9/L" | "10*9/l" | "10*3/uL" | "10*3/ul" | "/nL" | "/nl") => value,
         _ => {
             let hint = NOT_UCUM_HINTS
                 .iter()
@@ -190,6 +196,7 @@ pub fn output_unit(kind: QuantityKind, system: UnitSystem) -> &'static str {
                 "mL/min"
             }
         }
+        K::CellCount => "10*9/L",
     }
 }
 
@@ -226,6 +233,7 @@ mod tests {
             QuantityKind::BloodFlow,
             QuantityKind::OxygenContent,
             QuantityKind::OxygenFlow,
+            QuantityKind::CellCount,
         ] {
             for unit in accepted_units(kind) {
                 assert!(to_engine(1.0, unit, kind).is_ok(), "{unit} for {kind:?}");

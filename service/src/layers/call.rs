@@ -70,7 +70,7 @@ const TIMER_MARGIN: Duration = Duration::from_millis(1);
 const HEALTH_PATH_PREFIX: &str = "/grpc.health.v1.Health/";
 
 /// Every method the server serves, fully qualified as `rpc.method` wants it.
-const KNOWN_METHODS: [&str; 21] = [
+const KNOWN_METHODS: [&str; 23] = [
     "oxbind.v1.DissociationService/SaturationFromTension",
     "oxbind.v1.DissociationService/TensionFromSaturation",
     "oxbind.v1.DissociationService/SampleCurve",
@@ -83,6 +83,8 @@ const KNOWN_METHODS: [&str; 21] = [
     "oxbind.v1.OxygenTransportService/GasExchange",
     "oxbind.v1.ModelCatalogService/ListModels",
     "oxbind.v1.ModelCatalogService/GetServerSettings",
+    "oxbind.v1.ConsistencyService/CheckBloodGas",
+    "oxbind.v1.ConsistencyService/BatchCheckBloodGas",
     "grpc.health.v1.Health/Check",
     "grpc.health.v1.Health/Watch",
     "grpc.health.v1.Health/List",

@@ -1,8 +1,8 @@
 //! How much work a request is, read from its encoded message before it is
 //! decoded, in items:
 //!
-//! - a batch (`BatchSaturationFromTension`, `BatchTensionFromSaturation`):
-//!   its items;
+//! - a batch (`BatchSaturationFromTension`, `BatchTensionFromSaturation`,
+//!   `BatchCheckBloodGas`): its items;
 //! - `EstimateP50`: its measured pairs;
 //! - `SampleCurve`: its condition sets (at least one) times its points, one
 //!   item per [`CURVE_POINTS_PER_ITEM`] points;
@@ -37,7 +37,8 @@ const CURVE_DEFAULT_POINTS: u64 = 100;
 const CURVE_MAX_POINTS: u64 = 10_000;
 
 /// Field number of each request's repeated field (`requests`,
-/// `condition_sets`, `pairs`: all 1 in `oxbind.v1`).
+/// `condition_sets`, `pairs`: all 1 in `oxbind.v1`, BatchCheckBloodGas's
+/// `requests` too).
 const ENTRIES_FIELD: u32 = 1;
 
 /// Field number of `SampleCurveRequest.point_count`.
@@ -84,6 +85,9 @@ enum Counted {
 
 /// Which count applies to the method at `path`, if any.
 fn counted(path: &str) -> Option<Counted> {
+    if path == "/oxbind.v1.ConsistencyService/BatchCheckBloodGas" {
+        return Some(Counted::Batch);
+    }
     let method = path.strip_prefix("/oxbind.v1.DissociationService/")?;
     match method {
         "BatchSaturationFromTension" | "BatchTensionFromSaturation" => Some(Counted::Batch),
@@ -326,8 +330,9 @@ mod json_walk {
 mod tests {
     use super::*;
     use oxbind_proto::v1::{
-        BatchSaturationFromTensionRequest, BloodConditions, EstimateP50Request, MeasuredPair,
-        SampleCurveRequest, SaturationFromTensionRequest,
+        BatchCheckBloodGasRequest, BatchSaturationFromTensionRequest, BloodConditions,
+        CheckBloodGasRequest, EstimateP50Request, MeasuredPair, SampleCurveRequest,
+        SaturationFromTensionRequest,
     };
     use prost::Message;
 
@@ -342,6 +347,12 @@ mod tests {
         };
         assert_eq!(items_of(BATCH, &batch.encode_to_vec()), 1234);
         assert_eq!(items_of(BATCH, &[]), 1, "an empty batch is still one call");
+        let checks = BatchCheckBloodGasRequest {
+            requests: vec![CheckBloodGasRequest::default(); 321],
+        };
+        let path = "/oxbind.v1.ConsistencyService/BatchCheckBloodGas";
+        assert_eq!(items_of(path, &checks.encode_to_vec()), 321);
+        assert_eq!(items_of_json(path, br#"{"requests":[{},{},{}]}"#), 3);
     }
 
     #[test]

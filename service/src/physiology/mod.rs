@@ -15,6 +15,9 @@
 //!   [`tolerance`], [`error`], [`temperature`] (blood-gas temperature
 //!   correction), [`shift`] (P50 at conditions, shift factors),
 //!   [`p50_estimation`].
+//! - Assurance: [`uncertainty`] (how sure a derived value is) and
+//!   [`consistency`] (whether a blood-gas sample's results agree with one
+//!   another).
 //!
 //! The flat paths of the earlier layout (`physiology::model`,
 //! `physiology::severinghaus`, `physiology::content`, ...) still resolve through
@@ -26,6 +29,7 @@ pub mod transport;
 
 // Shared pieces.
 pub mod conditions;
+pub mod consistency;
 pub mod error;
 pub mod p50_estimation;
 pub mod shift;

@@ -91,9 +91,9 @@ enum Item {
 
 /// Why a row could not be read, for its `error_reasons` and `error` cells.
 #[derive(Debug, Clone)]
-struct CellError {
-    reason: &'static str,
-    message: String,
+pub(crate) struct CellError {
+    pub(crate) reason: &'static str,
+    pub(crate) message: String,
 }
 
 /// One input row: its carried cells and its request, or why it is unusable.
@@ -304,7 +304,7 @@ impl ItemBuilder {
 /// A cell as a quantity: its own unit, else the header's, else the kind's
 /// default; the one rule for bare fractions applies when neither the cell
 /// nor the header gives a unit.
-fn read_quantity(
+pub(crate) fn read_quantity(
     kind: Kind,
     header_unit: Option<&str>,
     header: &str,
@@ -649,7 +649,7 @@ fn outcome_cells(direction: Direction, outcome: &Outcome, names: &FieldNames) ->
 
 /// A refused item's reasons and messages, each field named as the file's
 /// header names it (the item's `requests[i].` prefix removed).
-fn refusal_cells(error: &ClientError, names: &FieldNames) -> (String, String) {
+pub(crate) fn refusal_cells(error: &ClientError, names: &FieldNames) -> (String, String) {
     let violations = error.field_violations();
     if violations.is_empty() {
         return (

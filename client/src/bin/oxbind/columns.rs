@@ -19,6 +19,12 @@ pub(crate) enum Kind {
     Fraction,
     /// pH: a plain number.
     Ph,
+    /// A haemoglobin concentration; a bare number is g/dL.
+    Hemoglobin,
+    /// A cell count; a bare number is 10⁹/L.
+    CellCount,
+    /// A word naming a value of the contract's enum (`arterial`); no unit.
+    Word,
 }
 
 impl Kind {
@@ -29,7 +35,9 @@ impl Kind {
             Kind::Temperature => ucum::CELSIUS,
             Kind::Concentration => ucum::MMOL_PER_L,
             Kind::Fraction => ucum::FRACTION,
-            Kind::Ph => "",
+            Kind::Ph | Kind::Word => "",
+            Kind::Hemoglobin => ucum::G_PER_DL,
+            Kind::CellCount => CELLS_PER_NL,
         }
     }
 
@@ -41,10 +49,15 @@ impl Kind {
             Kind::Temperature => &[ucum::CELSIUS, ucum::FAHRENHEIT],
             Kind::Concentration => &[ucum::MMOL_PER_L, "mmol/l"],
             Kind::Fraction => &[ucum::PERCENT, ucum::FRACTION],
-            Kind::Ph => &[],
+            Kind::Ph | Kind::Word => &[],
+            Kind::Hemoglobin => &[ucum::G_PER_DL, "g/L", "mmol/L", "g/dl", "g/l", "mmol/l"],
+            Kind::CellCount => &[CELLS_PER_NL, "10*3/uL", "/nL"],
         }
     }
 }
+
+/// The UCUM code of 10⁹ cells per litre.
+pub(crate) const CELLS_PER_NL: &str = "10*9/L";
 
 /// A column the batch reads.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
@@ -71,11 +84,13 @@ pub(crate) enum Field {
     Hbf,
 }
 
-/// One documented column: its field, name, aliases and kind.
+/// One documented column: its field, name, aliases and kind. `F` names the
+/// fields of the command that reads it (`oxbind batch`'s [`Field`] by
+/// default).
 #[derive(Debug, Clone, Copy)]
-pub(crate) struct ColumnSpec {
+pub(crate) struct ColumnSpec<F = Field> {
     /// The field it sets.
-    pub(crate) field: Field,
+    pub(crate) field: F,
     /// Its name (the contract's field name).
     pub(crate) name: &'static str,
     /// Other spellings accepted (the flag's).
@@ -165,10 +180,10 @@ pub(crate) const ID_COLUMN: &str = "id";
 
 /// What one header cell is.
 #[derive(Debug, Clone)]
-pub(crate) enum Header {
+pub(crate) enum Header<F = Field> {
     /// A documented column, with the unit its header declares.
     Read {
-        spec: ColumnSpec,
+        spec: ColumnSpec<F>,
         unit: Option<String>,
         /// The header as written.
         text: String,
@@ -195,7 +210,12 @@ fn split_header(text: &str) -> (String, Option<String>) {
 
 /// The accepted column names and aliases, for messages.
 pub(crate) fn accepted_names() -> String {
-    COLUMNS
+    accepted_names_in(&COLUMNS)
+}
+
+/// The names and aliases of `table`, for messages.
+pub(crate) fn accepted_names_in<F>(table: &[ColumnSpec<F>]) -> String {
+    table
         .iter()
         .map(|c| {
             if c.aliases.is_empty() {
@@ -213,6 +233,15 @@ pub(crate) fn accepted_names() -> String {
 /// named in `carry`; each documented column at most once; each carried
 /// name present.
 pub(crate) fn read_header(cells: &[&str], carry: &[String]) -> Result<Vec<Header>, String> {
+    read_header_in(&COLUMNS, cells, carry)
+}
+
+/// [`read_header`] against the columns of `table`.
+pub(crate) fn read_header_in<F: Copy + PartialEq>(
+    table: &[ColumnSpec<F>],
+    cells: &[&str],
+    carry: &[String],
+) -> Result<Vec<Header<F>>, String> {
     let carry: Vec<String> = carry.iter().map(|c| c.trim().to_lowercase()).collect();
     let mut headers = Vec::with_capacity(cells.len());
     for cell in cells {
@@ -222,13 +251,13 @@ pub(crate) fn read_header(cells: &[&str], carry: &[String]) -> Result<Vec<Header
             headers.push(Header::Carried { text });
             continue;
         }
-        let Some(spec) = COLUMNS
+        let Some(spec) = table
             .iter()
             .find(|c| c.name == name || c.aliases.contains(&name.as_str()))
         else {
             return Err(format!(
                 "unknown column `{text}`: the columns read are {}; carry your own columns through with --carry {}",
-                accepted_names(),
+                accepted_names_in(table),
                 text
             ));
         };
@@ -274,7 +303,7 @@ fn check_header_unit(text: &str, kind: Kind, unit: &str) -> Result<(), String> {
         return Ok(());
     }
     if accepted.is_empty() {
-        return Err(format!("column `{text}` takes plain numbers and no unit"));
+        return Err(format!("column `{text}` takes no unit"));
     }
     Err(format!(
         "column `{text}` declares the unit `{unit}`, which is not one of its UCUM codes (case-sensitive): {}",

@@ -7,11 +7,12 @@ use std::path::PathBuf;
 
 use clap::Args;
 use oxbind_client::v1::{
-    BloodConditions, ListModelsRequest, Model, Quantity, SampleCurveRequest,
-    SaturationFromTensionRequest, ShiftFactorsRequest,
+    BloodConditions, BloodGasResults, BloodGasSampleType, CheckBloodGasRequest, ListModelsRequest,
+    Model, Quantity, SampleCurveRequest, SaturationFromTensionRequest, ShiftFactorsRequest,
 };
 
 use crate::{
+    check::{print_findings, sample_names},
     commands::{curve_point_names, describe},
     failure::Failure,
     output::{self, Table},
@@ -93,6 +94,84 @@ carries no oxygen, so at most 76 % of the haemoglobin does.",
     ]
 }
 
+/// One invented sample for the consistency checks.
+struct Sample {
+    label: &'static str,
+    story: &'static str,
+    results: BloodGasResults,
+}
+
+/// The samples the laboratory checks before release: one with air in the
+/// syringe, one venous sample labelled arterial.
+fn samples() -> Vec<Sample> {
+    vec![
+        Sample {
+            label: "air in the syringe",
+            story: "Ward 6: an arterial sample on room air that waited with an air bubble \
+before it reached the analyser. The pulse oximeter read 91 % when it was drawn.",
+            results: BloodGasResults {
+                po2: Some(Quantity::mm_hg(121.0)),
+                pco2: Some(Quantity::mm_hg(31.0)),
+                ph: Some(7.47),
+                sample_type: BloodGasSampleType::Arterial as i32,
+                spo2_fraction: Some(0.91),
+                fio2: Some(Quantity::percent(21.0)),
+                ..Default::default()
+            },
+        },
+        Sample {
+            label: "venous sample labelled arterial",
+            story: "Emergency department: labelled arterial, but the needle found a vein. \
+SpO2 96 % on 28 % oxygen; the co-oximeter measured 71 %.",
+            results: BloodGasResults {
+                po2: Some(Quantity::mm_hg(38.0)),
+                pco2: Some(Quantity::mm_hg(47.0)),
+                ph: Some(7.36),
+                sample_type: BloodGasSampleType::Arterial as i32,
+                so2_fraction: Some(0.71),
+                spo2_fraction: Some(0.96),
+                fio2: Some(Quantity::percent(28.0)),
+                ..Default::default()
+            },
+        },
+    ]
+}
+
+/// The consistency part of the demo: each sample's findings. The saturation
+/// calculated from PO2 uses Siggaard-Andersen's 1990 algorithm unless
+/// --model names another: it takes the samples' PCO2 into account.
+async fn consistency(ctx: &Context) -> Result<(), Failure> {
+    let model = if ctx.model == 0 {
+        Model::SiggaardAndersen1990 as i32
+    } else {
+        ctx.model
+    };
+    output::line(
+        "Before release: the laboratory's consistency checks (ConsistencyService). The \
+findings support its review; they do not reject results.\n",
+    )?;
+    for (n, sample) in samples().into_iter().enumerate() {
+        output::line(format!(
+            "Sample {}: {}\n  {}",
+            n + 1,
+            sample.label,
+            sample.story
+        ))?;
+        let response = ctx
+            .client
+            .check_blood_gas(CheckBloodGasRequest {
+                sample: Some(sample.results),
+                model,
+                unit_system: ctx.unit_system,
+                ..Default::default()
+            })
+            .await?;
+        print_findings(&response, &sample_names(), false)?;
+        output::line("")?;
+    }
+    Ok(())
+}
+
 /// `oxbind demo`.
 pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
     // The cases' conditions (pH, base excess, temperature, 2,3-DPG, COHb) are
@@ -163,6 +242,8 @@ pub(crate) async fn run(ctx: &Context, a: &DemoArgs) -> Result<(), Failure> {
         t.print()?;
         output::line("")?;
     }
+
+    consistency(ctx).await?;
 
     if let Some(path) = &a.svg {
         let mut sets = vec![BloodConditions::standard()];

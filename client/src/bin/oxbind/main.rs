@@ -6,6 +6,8 @@
 
 mod args;
 mod batch;
+mod check;
+mod check_batch;
 mod columns;
 mod commands;
 mod demo;
@@ -135,6 +137,10 @@ enum Command {
     /// Saturations (or tensions) for every row of a CSV file, through the
     /// batch RPCs.
     Batch(batch::BatchArgs),
+    /// Consistency checks of one blood-gas sample before release (or, with
+    /// --input, of every row of a CSV file): one finding per check. Findings
+    /// support the laboratory's review and do not reject results.
+    Check(check::CheckArgs),
     /// An invented scenario at a fictional hospital (`--svg` draws its curves).
     Demo(demo::DemoArgs),
     /// Derived Observations from a FHIR R4 Parameters or Bundle of
@@ -221,6 +227,7 @@ fn names_for(command: &Command) -> FieldNames {
         Command::Content(a) => a.uncertainty.names(commands::content_names()),
         Command::GasExchange(a) => a.uncertainty.names(commands::gas_exchange_names()),
         Command::Demo(_) => commands::curve_point_names(),
+        Command::Check(a) => check::check_names(&a.figures),
         _ => FieldNames::new(),
     }
 }
@@ -255,6 +262,9 @@ fn check_combinations(cli: &Cli) -> Result<(), Failure> {
     };
     match &cli.command {
         Command::Batch(_) if cli.json.is_some() => unused("--json", "batch (it writes CSV)"),
+        Command::Check(a) if cli.json.is_some() && a.input.is_some() => {
+            unused("--json", "check --input (it writes CSV)")
+        }
         Command::Demo(_) if cli.json.is_some() => unused("--json", "demo"),
         Command::Fhir(_) if cli.json.is_some() => unused("--json", "fhir (it prints FHIR JSON)"),
         Command::Health | Command::Models | Command::Completions { .. } | Command::Verify(_)
@@ -294,6 +304,12 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         Command::Batch(args) => Some(batch::prepare(args, model, unit_system)?),
         _ => None,
     };
+    let prepared_checks = match &cli.command {
+        Command::Check(args) if args.input.is_some() => {
+            Some(check_batch::prepare(args, model, unit_system)?)
+        }
+        _ => None,
+    };
     let server_name = source_name(matches, "server", "--server", "OXBIND_SERVER");
     if let Command::Verify(args) = &cli.command {
         let connection = verify::Connection {
@@ -325,6 +341,10 @@ async fn run(cli: &Cli, matches: &ArgMatches) -> Result<(), Failure> {
         Command::Batch(a) => match prepared {
             Some(prepared) => batch::run(&ctx, a, prepared).await,
             None => Ok(()),
+        },
+        Command::Check(a) => match prepared_checks {
+            Some(prepared) => check_batch::run(&ctx, a, prepared).await,
+            None => check::check(&ctx, a).await,
         },
         Command::Demo(a) => demo::run(&ctx, a).await,
         Command::Completions { .. } | Command::Fhir(_) | Command::Verify(_) => Ok(()),

@@ -160,6 +160,7 @@ pub(crate) fn unit_text(unit: &str) -> &str {
 pub(crate) fn quantity(q: &Quantity) -> String {
     let decimals = match q.unit.as_str() {
         "1" => 4,
+        "[pH]" => 3,
         "kPa" | "mmol/L" | "mL/dL" | "g/dL" | "L/min" => 2,
         _ => 1,
     };
@@ -226,14 +227,17 @@ pub(crate) fn code_name(w: &Warning) -> String {
 /// `name: message`, the field named as the user wrote it, and the
 /// message's units in plain words (`°C`).
 pub(crate) fn warning_text(w: &Warning, names: &FieldNames) -> String {
-    let message = crate::fields::model_flags(&w.message)
-        .replace(" Cel", " °C")
-        .replace(" [degF]", " °F");
+    let message = plain_units(&crate::fields::model_flags(&w.message));
     if w.field.is_empty() {
         return message;
     }
     let name = names.name(&w.field).unwrap_or_else(|| w.field.clone());
     format!("{name}: {message}")
+}
+
+/// A server's text with its temperature units in plain words (`°C`, `°F`).
+pub(crate) fn plain_units(text: &str) -> String {
+    text.replace(" Cel", " °C").replace(" [degF]", " °F")
 }
 
 /// A shift factor in plain words.

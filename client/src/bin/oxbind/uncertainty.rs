@@ -171,8 +171,9 @@ fn bound_arg(text: &str) -> Result<BoundArg, String> {
 
 /// The flags that give an input's value as a fraction (a bare figure is
 /// the fraction; `%` is percentage points).
-const FRACTION_INPUTS: [&str; 12] = [
+const FRACTION_INPUTS: [&str; 13] = [
     "saturation",
+    "so2",
     "sao2",
     "svo2",
     "spo2",
@@ -196,7 +197,7 @@ fn bare_unit(name: &str, value: f64, text: &str) -> Result<&'static str, String>
         return Ok("1");
     }
     match name {
-        "ph" | "venous-ph" => Ok("[pH]"),
+        "ph" | "venous-ph" | "ph-37" => Ok("[pH]"),
         "rq" | "hill-n" => Ok("1"),
         "hufner" => Ok("mL/g"),
         _ => Err(format!(
@@ -205,22 +206,75 @@ fn bare_unit(name: &str, value: f64, text: &str) -> Result<&'static str, String>
     }
 }
 
-/// The uncertainty flags.
+/// The figures: `--uncertainty SET` and `--u NAME=FIGURE`, the one way to
+/// say how uncertain an input is, on every command whose RPC takes figures
+/// (with [`UncertaintyArgs`]) and on `oxbind check` (the figures of its
+/// uncertainty-based rules).
 #[derive(Debug, Clone, Default, Args)]
-#[command(next_help_heading = "Uncertainty (on request)")]
-pub(crate) struct UncertaintyArgs {
+pub(crate) struct FigureFlags {
     /// A built-in profile set for every input it covers (for example
     /// `clia-2024`, `pulse-oximeter-fda-2013-transmittance`; `oxbind models`
-    /// lists them with their sources); repeat for more. Asks for the
-    /// uncertainty of the answer.
+    /// lists them with their sources); repeat for more. It asks for the
+    /// uncertainty of the answer (`check`: it sets the figures of the
+    /// uncertainty-based rules).
     #[arg(long = "uncertainty", value_name = "PROFILE_SET")]
     pub(crate) profile_sets: Vec<String>,
     /// A figure for one input: `NAME=FIGURE`, e.g. `--u 'po2=3mm[Hg]'`,
     /// `--u spo2=2%`, `--u 'po2=15mm[Hg],15%rel@95%'`, `--u
-    /// pao2=clia-2024-po2` (`--help` says more); repeat for more inputs.
-    /// Asks for the uncertainty of the answer.
+    /// pao2=clia-2024-po2` (`--help` says more); repeat for more inputs. It
+    /// asks for the uncertainty of the answer (`check`: it sets the figures
+    /// of the uncertainty-based rules).
     #[arg(long = "u", value_name = "NAME=FIGURE", value_parser = figure_arg, long_help = FIGURE_HELP)]
     pub(crate) figures: Vec<FigureArg>,
+}
+
+impl FigureFlags {
+    /// Whether a set or a figure was given.
+    pub(crate) fn is_given(&self) -> bool {
+        !self.profile_sets.is_empty() || !self.figures.is_empty()
+    }
+
+    /// Each `--u` as the contract's figure for the request field its flag
+    /// sets (`names`).
+    pub(crate) fn inputs(&self, names: &FieldNames) -> Result<Vec<InputUncertainty>, Failure> {
+        self.figures.iter().map(|f| input(f, names)).collect()
+    }
+
+    /// `names` with `uncertainty.profile_sets` and `uncertainty.inputs` (and
+    /// each item below them) named as the flags that set them.
+    pub(crate) fn names(&self, names: FieldNames) -> FieldNames {
+        let mut names = names
+            .with("uncertainty", "the uncertainty flags")
+            .with("uncertainty.profile_sets", "--uncertainty")
+            .with("uncertainty.inputs", "--u");
+        for (j, set) in self.profile_sets.iter().enumerate() {
+            names = names.with(
+                &format!("uncertainty.profile_sets[{j}]"),
+                format!("--uncertainty {set}"),
+            );
+        }
+        for (i, f) in self.figures.iter().enumerate() {
+            let flag = format!("--u {}={}", f.name, f.text);
+            for sub in FIGURE_PATHS {
+                let path = if sub.is_empty() {
+                    format!("uncertainty.inputs[{i}]")
+                } else {
+                    format!("uncertainty.inputs[{i}].{sub}")
+                };
+                names = names.with(&path, flag.clone());
+            }
+        }
+        names
+    }
+}
+
+/// The uncertainty flags. Any of them asks for the uncertainty of the
+/// answer.
+#[derive(Debug, Clone, Default, Args)]
+#[command(next_help_heading = "Uncertainty (on request)")]
+pub(crate) struct UncertaintyArgs {
+    #[command(flatten)]
+    pub(crate) figures: FigureFlags,
     /// How the uncertainty is evaluated (server default first-order).
     #[arg(long, value_enum)]
     pub(crate) uncertainty_method: Option<MethodArg>,
@@ -249,8 +303,7 @@ pub(crate) struct UncertaintyArgs {
 impl UncertaintyArgs {
     /// Whether any uncertainty flag was given (any of them asks for it).
     pub(crate) fn is_given(&self) -> bool {
-        !self.profile_sets.is_empty()
-            || !self.figures.is_empty()
+        self.figures.is_given()
             || self.uncertainty_method.is_some()
             || self.draws.is_some()
             || self.seed.is_some()
@@ -274,14 +327,9 @@ impl UncertaintyArgs {
         if !self.is_given() {
             return Ok(None);
         }
-        let inputs = self
-            .figures
-            .iter()
-            .map(|f| input(f, names))
-            .collect::<Result<Vec<_>, _>>()?;
         Ok(Some(UncertaintyRequest {
-            inputs,
-            profile_sets: self.profile_sets.clone(),
+            inputs: self.figures.inputs(names)?,
+            profile_sets: self.figures.profile_sets.clone(),
             method: match self.uncertainty_method {
                 None => UncertaintyMethod::Unspecified,
                 Some(MethodArg::FirstOrder) => UncertaintyMethod::FirstOrder,
@@ -302,39 +350,19 @@ impl UncertaintyArgs {
 
     /// `names` with the uncertainty fields named as the flags that set them.
     pub(crate) fn names(&self, names: FieldNames) -> FieldNames {
-        let mut names = names
-            .with("uncertainty", "the uncertainty flags")
-            .with("uncertainty.profile_sets", "--uncertainty")
-            .with("uncertainty.inputs", "--u")
+        self.figures
+            .names(names)
             .with("uncertainty.method", "--uncertainty-method")
             .with("uncertainty.draw_count", "--draws")
             .with("uncertainty.seed", "--seed")
             .with("uncertainty.interval_kind", "--interval")
             .with("uncertainty.coverage_probability", "--coverage")
-            .with("uncertainty.significant_digits", "--significant-digits");
-        for (j, set) in self.profile_sets.iter().enumerate() {
-            names = names.with(
-                &format!("uncertainty.profile_sets[{j}]"),
-                format!("--uncertainty {set}"),
-            );
-        }
-        for (i, f) in self.figures.iter().enumerate() {
-            let flag = format!("--u {}={}", f.name, f.text);
-            for sub in FIGURE_PATHS {
-                let path = if sub.is_empty() {
-                    format!("uncertainty.inputs[{i}]")
-                } else {
-                    format!("uncertainty.inputs[{i}].{sub}")
-                };
-                names = names.with(&path, flag.clone());
-            }
-        }
-        names
+            .with("uncertainty.significant_digits", "--significant-digits")
     }
 }
 
 /// The paths below one figure that a refusal may name.
-const FIGURE_PATHS: [&str; 13] = [
+const FIGURE_PATHS: [&str; 14] = [
     "",
     "field",
     "profile_id",
@@ -348,6 +376,7 @@ const FIGURE_PATHS: [&str; 13] = [
     "bound.shape",
     "bound.coverage_probability",
     "bound.coverage_factor",
+    "bound.trapezoid_top_ratio",
 ];
 
 /// One `--u` as the contract's figure for the field its flag sets.

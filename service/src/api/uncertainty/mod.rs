@@ -20,7 +20,7 @@ pub use inputs::{
     SHIFT_FACTORS_INPUTS, TENSION_FROM_SATURATION_INPUTS,
 };
 pub use profiles::catalog_profiles;
-pub use request::{read, Call, Requested};
+pub use request::{read, read_figure, read_profile_sets, Call, Requested};
 pub use result::{
     not_evaluated, verification, ValueUnit, RANDOM_GENERATOR, UNCERTAINTY_METHOD_REFERENCE,
     UNCERTAINTY_METHOD_VERSION,

@@ -310,7 +310,10 @@ fn read_method(
     }
 }
 
-fn read_profile_sets(
+/// The profile sets of an uncertainty part at `path` (its `profile_sets`):
+/// each a known set, named once. `None` (and a refusal in `reader`) when one
+/// is not.
+pub fn read_profile_sets(
     reader: &mut RequestReader,
     sets: &[String],
     path: &FieldPath<'_>,
@@ -354,8 +357,12 @@ fn read_profile_sets(
     ok.then(|| sets.to_vec())
 }
 
-/// One input's figure, as the engine's source.
-fn read_figure(
+/// One input's figure (`InputUncertainty.figure` of the item at `item`) as
+/// the engine's source: its amounts in the engine unit of `unit` and within
+/// the hard limits, a bound's shape and parameter, or a known profile that
+/// fits `role`. `None` (and a refusal in `reader`) when it is not usable.
+/// CheckBloodGas reads its figures with it too.
+pub fn read_figure(
     reader: &mut RequestReader,
     figure: Option<&Figure>,
     unit: FigureUnit,

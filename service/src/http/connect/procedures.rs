@@ -19,6 +19,8 @@ use crate::{
     layers::{call::CallOutcome, door::DoorLayers, work},
 };
 
+use crate::api::consistency;
+
 /// What a procedure needs besides the request: the configured limits, and
 /// the settings GetServerSettings reports.
 #[derive(Debug, Clone)]
@@ -72,7 +74,7 @@ type Procedure = fn(&Call<'_>) -> Result<Bytes, Status>;
 /// Every v1 RPC by its Connect path (`/<package>.<Service>/<Method>`). All
 /// are free of side effects (`idempotency_level = NO_SIDE_EFFECTS`), so all
 /// take the GET form too.
-const PROCEDURES: [(&str, Procedure); 12] = [
+const PROCEDURES: [(&str, Procedure); 14] = [
     (
         "/oxbind.v1.DissociationService/SaturationFromTension",
         |call| call.unary(dissociation::compute_saturation_from_tension),
@@ -126,6 +128,12 @@ const PROCEDURES: [(&str, Procedure); 12] = [
                 &call.limits.settings,
             ))
         })
+    }),
+    ("/oxbind.v1.ConsistencyService/CheckBloodGas", |call| {
+        call.unary(consistency::compute_check_blood_gas)
+    }),
+    ("/oxbind.v1.ConsistencyService/BatchCheckBloodGas", |call| {
+        call.unary(|r| consistency::compute_batch_check_blood_gas(r, call.limits.max_batch_items))
     }),
 ];
 

@@ -104,6 +104,24 @@ pub enum BoundShape {
     },
 }
 
+impl BoundShape {
+    /// The divisor that turns the half-width a into the standard
+    /// uncertainty, u = a / divisor (the module's table): Φ⁻¹((1 + p)/2), k,
+    /// √3, √6 or 1/√((1 + β²)/6). The shape's parameter must be valid
+    /// ([`Statement::check`]).
+    pub fn divisor(self) -> f64 {
+        match self {
+            BoundShape::Normal {
+                coverage_probability,
+            } => normal_coverage_factor(coverage_probability),
+            BoundShape::CoverageFactor { k } => k,
+            BoundShape::Rectangular => 3f64.sqrt(),
+            BoundShape::Triangular => 6f64.sqrt(),
+            BoundShape::Trapezoidal { beta } => 1.0 / ((1.0 + beta * beta) / 6.0).sqrt(),
+        }
+    }
+}
+
 /// One statement of an input's uncertainty.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Statement {
@@ -305,32 +323,27 @@ impl Statement {
             }
             Statement::Bound { half_width, shape } => {
                 let a = half_width.at(x);
-                let (divisor, rule, distribution) = match shape {
+                let divisor = shape.divisor();
+                let (rule, distribution) = match shape {
                     BoundShape::Normal {
                         coverage_probability,
-                    } => {
-                        let k = normal_coverage_factor(coverage_probability);
-                        (
-                            k,
-                            DivisorRule::NormalCoverage {
-                                coverage_probability,
-                            },
-                            InputDistribution::Normal {
-                                mean: x,
-                                standard_deviation: a / k,
-                            },
-                        )
-                    }
-                    BoundShape::CoverageFactor { k } => (
-                        k,
+                    } => (
+                        DivisorRule::NormalCoverage {
+                            coverage_probability,
+                        },
+                        InputDistribution::Normal {
+                            mean: x,
+                            standard_deviation: a / divisor,
+                        },
+                    ),
+                    BoundShape::CoverageFactor { .. } => (
                         DivisorRule::CoverageFactor,
                         InputDistribution::Normal {
                             mean: x,
-                            standard_deviation: a / k,
+                            standard_deviation: a / divisor,
                         },
                     ),
                     BoundShape::Rectangular => (
-                        3f64.sqrt(),
                         DivisorRule::Rectangular,
                         InputDistribution::Rectangular {
                             low: x - a,
@@ -338,7 +351,6 @@ impl Statement {
                         },
                     ),
                     BoundShape::Triangular => (
-                        6f64.sqrt(),
                         DivisorRule::Triangular,
                         InputDistribution::Triangular {
                             low: x - a,
@@ -346,7 +358,6 @@ impl Statement {
                         },
                     ),
                     BoundShape::Trapezoidal { beta } => (
-                        1.0 / ((1.0 + beta * beta) / 6.0).sqrt(),
                         DivisorRule::Trapezoidal { beta },
                         InputDistribution::Trapezoidal {
                             low: x - a,

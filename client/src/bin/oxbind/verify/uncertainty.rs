@@ -173,8 +173,12 @@ pub(crate) fn section(catalog: &Value, records: &[CaseRecord]) -> Uncertainty {
         .unwrap_or(&[]);
     let profiles: Vec<Profile> = published.iter().map(profile).collect();
     let offered = !profiles.is_empty();
+    // Only requests that take an UncertaintyRequest ask for an uncertainty:
+    // CheckBloodGas's own `uncertainty` holds the figures of its rules.
+    let carrying = carrying_methods();
     let cases: Vec<UncertaintyCase> = records
         .iter()
+        .filter(|record| carrying.contains(&record.rpc))
         .filter_map(|record| {
             let methods = asked_methods(&record.inputs);
             (!methods.is_empty()).then(|| UncertaintyCase {
@@ -205,7 +209,7 @@ pub(crate) fn section(catalog: &Value, records: &[CaseRecord]) -> Uncertainty {
         Vec::new()
     };
     let asked: BTreeSet<&str> = cases.iter().map(|c| c.rpc.as_str()).collect();
-    let unchecked = carrying_methods()
+    let unchecked = carrying
         .into_iter()
         .filter(|rpc| !asked.contains(rpc.as_str()))
         .collect();
@@ -442,6 +446,36 @@ mod tests {
                 "UNCERTAINTY_METHOD_FIRST_ORDER",
                 "UNCERTAINTY_METHOD_MONTE_CARLO"
             ])
+        );
+    }
+
+    #[test]
+    fn the_figures_of_the_consistency_rules_are_not_an_uncertainty_case() {
+        let record = |rpc: &str| CaseRecord {
+            id: format!("example.json/{rpc}"),
+            surface: "grpc",
+            family: crate::verify::case::Family::SharedVector,
+            file: "tests/vectors/example.json",
+            rpc: rpc.to_owned(),
+            inputs: json!({"uncertainty": {"inputs": []}}),
+            source: "a source".to_owned(),
+            note: None,
+            models: Vec::new(),
+            passed: true,
+            checks: Vec::new(),
+        };
+        let catalog = json!({"uncertaintyProfiles": [{"profileId": "clia-2024-po2"}]});
+        let s = section(
+            &catalog,
+            &[
+                record("oxbind.v1.ConsistencyService/CheckBloodGas"),
+                record("oxbind.v1.DissociationService/SaturationFromTension"),
+            ],
+        );
+        let rpcs: Vec<&str> = s.cases.iter().map(|c| c.rpc.as_str()).collect();
+        assert_eq!(
+            rpcs,
+            ["oxbind.v1.DissociationService/SaturationFromTension"]
         );
     }
 
